@@ -1,0 +1,38 @@
+"""Turn the workflow's validated config into the package's own option types."""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from pathlib import Path
+
+from annotate.io.library import LibrarySpec
+from annotate.settings import Settings
+
+
+def settings_from_config(config: Mapping[str, object]) -> Settings:
+    """Science settings of a run; keys as in ``workflow/schemas/config.schema.yaml``."""
+    rules = config.get("user_rules")
+    return Settings(
+        ph=tuple(float(p) for p in config["ph"]),  # type: ignore[attr-defined]
+        min_fraction=float(config["min_fraction"]),  # type: ignore[arg-type]
+        max_species=int(config["max_species"]),  # type: ignore[call-overload]
+        keep_largest_fragment=bool(config["keep_largest_fragment"]),
+        neutralize=bool(config["neutralize"]),
+        user_rules=Path(str(rules)) if rules else None,
+    )
+
+
+def expand_library_shorthand(libraries: object) -> object:
+    """Write each ``name: path`` entry as ``name: {path: path}`` so the schema fills its defaults.
+
+    Anything that is not a mapping of entries is returned as is, for the schema to reject
+    with a message naming the key.
+    """
+    if not isinstance(libraries, Mapping):
+        return libraries
+    return {name: {"path": entry} if isinstance(entry, str) else entry for name, entry in libraries.items()}
+
+
+def library_specs(libraries: Mapping[str, object]) -> dict[str, LibrarySpec]:
+    """The configured libraries, by name, in config order."""
+    return {name: LibrarySpec.from_config(name, entry) for name, entry in libraries.items()}  # type: ignore[arg-type]

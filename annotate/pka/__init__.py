@@ -1,0 +1,1 @@
+"""Where site pKa values are estimated: parent value plus substituent terms."""

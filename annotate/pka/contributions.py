@@ -1,0 +1,54 @@
+"""Substituent contributions, and their difference from the rule's parent compound."""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+from dataclasses import dataclass
+
+#: share of a term's size taken as its uncertainty; substituent constants transfer
+#: between series only approximately (common practice: 10-20 %)
+TERM_RELATIVE_SD = 0.15
+#: extra uncertainty for a substituent no table row describes, or an ortho position
+UNKNOWN_SD = 0.3
+
+
+@dataclass(frozen=True, slots=True)
+class Contribution:
+    """One substituent's pKa shift; equal labels are summed and compared with the parent."""
+
+    label: str
+    value: float
+    sd: float
+
+
+@dataclass(frozen=True, slots=True)
+class NetTerm:
+    label: str
+    value: float
+    sd: float
+
+
+def net_of_parent(mol: Iterable[Contribution], parent: Iterable[Contribution]) -> list[NetTerm]:
+    """Molecule's contributions minus the parent's, label by label.
+
+    The rule's pKa is measured on its parent compound, so whatever the parent
+    already carries (e.g. ethanol's two carbinol H) must not be counted twice.
+    """
+    totals: dict[str, list[float]] = {}
+    for c in mol:
+        t = totals.setdefault(c.label, [0.0, 0.0, 0.0, 0.0])
+        t[0] += c.value
+        t[1] += 1
+        t[2] += c.sd**2
+    for c in parent:
+        t = totals.setdefault(c.label, [0.0, 0.0, 0.0, 0.0])
+        t[0] -= c.value
+        t[3] += 1
+    terms = []
+    for label, (value, n_mol, var, n_parent) in totals.items():
+        if abs(value) < 0.005:
+            continue
+        count = int(n_mol - n_parent)
+        shown = label if count == 1 else f"{label} x{count}"
+        terms.append(NetTerm(shown, value, var**0.5))
+    return terms

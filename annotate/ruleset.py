@@ -1,0 +1,43 @@
+"""Everything the engine reads from data files, loaded and checked once per process."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import lru_cache
+from pathlib import Path
+
+from rdkit import Chem
+
+from annotate.pka.contributions import Contribution
+from annotate.pka.substituents import SubstituentTable, load_substituents
+from annotate.sites.rules import GroupRule, load_group_rules
+from annotate.species.interactions import InteractionTable, load_interactions
+from annotate.tables import RuleFileError
+
+
+@dataclass(frozen=True, slots=True)
+class RuleSet:
+    groups: tuple[GroupRule, ...]
+    substituents: SubstituentTable
+    interactions: InteractionTable
+    #: per rule name, the substituent contributions of its own parent compound
+    parent_terms: dict[str, tuple[Contribution, ...]]
+
+
+@lru_cache(maxsize=8)
+def load_ruleset(user_rules: Path | None = None) -> RuleSet:
+    """Load all tables; a parent compound that its own rule does not match is an error."""
+    from annotate.pka.estimate import substituent_contributions  # noqa: PLC0415 (cycle)
+
+    groups = load_group_rules(user_rules)
+    substituents = load_substituents()
+    parent_terms: dict[str, tuple[Contribution, ...]] = {}
+    for rule in groups:
+        parent = Chem.MolFromSmiles(rule.parent)
+        matches = parent.GetSubstructMatches(rule.pattern)
+        if not matches:
+            raise RuleFileError(f"group rule {rule.name!r}: parent {rule.parent} does not match its own SMARTS")
+        parent_terms[rule.name] = tuple(
+            substituent_contributions(parent, rule, matches[0], substituents)
+        )
+    return RuleSet(groups, substituents, load_interactions(), parent_terms)

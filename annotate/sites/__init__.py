@@ -1,0 +1,1 @@
+"""Where ionizable sites are found: group rules (data) and their matching."""

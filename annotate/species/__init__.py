@@ -1,0 +1,1 @@
+"""Where protonation microstates are weighed and species structures are built."""

@@ -1,0 +1,38 @@
+"""Species structures: the parent with each site's proton added or removed."""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+from rdkit import Chem
+
+from annotate.results import Site
+
+
+def species_mol(parent: Chem.Mol, sites: Sequence[Site], protonated: Sequence[bool]) -> Chem.Mol:
+    """Return a sanitized copy of ``parent`` in the given protonation pattern.
+
+    The parent holds every acid protonated and every base neutral; only sites
+    that differ from that are edited. Coordinates, stereo tags and isotopes are
+    kept because atoms are edited in place, never re-created. Raises
+    ``Chem.rdchem.MolSanitizeException`` if a pattern gives an impossible valence.
+    """
+    mol = Chem.RWMol(parent)
+    for site, has_proton in zip(sites, protonated, strict=True):
+        if site.kind == "acid" and not has_proton:
+            _shift(mol.GetAtomWithIdx(site.atom), charge=-1, hydrogens=-1)
+        elif site.kind == "base" and has_proton:
+            _shift(mol.GetAtomWithIdx(site.atom), charge=+1, hydrogens=+1)
+    Chem.SanitizeMol(mol)
+    return mol.GetMol()
+
+
+def _shift(atom: Chem.Atom, *, charge: int, hydrogens: int) -> None:
+    total_h = atom.GetTotalNumHs()
+    atom.SetFormalCharge(atom.GetFormalCharge() + charge)
+    atom.SetNoImplicit(True)
+    atom.SetNumExplicitHs(max(0, total_h + hydrogens))
+
+
+def species_smiles(parent: Chem.Mol, sites: Sequence[Site], protonated: Sequence[bool]) -> str:
+    return Chem.MolToSmiles(species_mol(parent, sites, protonated))

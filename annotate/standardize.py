@@ -1,0 +1,76 @@
+"""Reduce an input record to the neutral parent that ionization is computed for."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from rdkit import Chem
+from rdkit.Chem.MolStandardize import rdMolStandardize
+
+#: elements the group and substituent tables are written for
+ORGANIC = frozenset({1, 5, 6, 7, 8, 9, 14, 15, 16, 17, 34, 35, 53})
+#: heavy atoms above which a molecule is annotated but flagged as outside the
+#: drug-like range the constants were collected on (common practice)
+LARGE_MOLECULE = 150
+
+
+class RecordError(ValueError):
+    """A record that cannot be annotated; the message is shown to the user."""
+
+
+@dataclass(frozen=True, slots=True)
+class Parent:
+    mol: Chem.Mol
+    messages: tuple[str, ...]
+    warning: bool
+
+
+def parent_of(mol: Chem.Mol, *, keep_largest_fragment: bool = True, neutralize: bool = True) -> Parent:
+    """Largest organic fragment, neutralised where a charge only reflects a salt form.
+
+    Stereochemistry, isotopes and coordinates are kept. Permanent charges
+    (quaternary N, N-oxides as drawn) stay. Raises RecordError for records
+    Ionotate cannot treat (radicals, metals bonded in the parent, no heavy atoms).
+    """
+    messages: list[str] = []
+    warning = False
+    if mol.GetNumHeavyAtoms() == 0:
+        raise RecordError("no heavy atoms")
+    fragments = Chem.GetMolFrags(mol, asMols=True, sanitizeFrags=False)
+    if len(fragments) > 1:
+        if not keep_largest_fragment:
+            raise RecordError(f"{len(fragments)} fragments and fragment removal is switched off")
+        ranked = sorted(fragments, key=_fragment_rank, reverse=True)
+        kept, dropped = ranked[0], ranked[1:]
+        names = ", ".join(sorted(Chem.MolToSmiles(f) for f in dropped))
+        messages.append(f"removed {len(dropped)} fragment(s): {names}")
+        mol = kept
+    else:
+        mol = Chem.Mol(mol)
+    unsupported = sorted({a.GetSymbol() for a in mol.GetAtoms() if a.GetAtomicNum() not in ORGANIC})
+    if unsupported:
+        raise RecordError(f"unsupported element(s) in the parent: {', '.join(unsupported)}")
+    if any(a.GetNumRadicalElectrons() for a in mol.GetAtoms()):
+        raise RecordError("radical: an atom has unpaired electrons")
+    if any(a.GetAtomicNum() == 1 for a in mol.GetAtoms()):
+        mol = Chem.RemoveHs(mol, sanitize=True)
+    if neutralize and any(a.GetFormalCharge() for a in mol.GetAtoms()):
+        before = sum(1 for a in mol.GetAtoms() if a.GetFormalCharge())
+        mol = _UNCHARGER.uncharge(mol)
+        after = sum(1 for a in mol.GetAtoms() if a.GetFormalCharge())
+        if after < before:
+            messages.append(f"neutralised {before - after} charged atom(s)")
+    heavy = mol.GetNumHeavyAtoms()
+    if heavy > LARGE_MOLECULE:
+        messages.append(f"large molecule ({heavy} heavy atoms): constants collected on small molecules")
+        warning = True
+    return Parent(mol, tuple(messages), warning)
+
+
+_UNCHARGER = rdMolStandardize.Uncharger(canonicalOrder=True)
+
+
+def _fragment_rank(frag: Chem.Mol) -> tuple[int, int, str]:
+    """Most heavy atoms, then most carbons, then SMILES order, so ties break the same way."""
+    carbons = sum(1 for a in frag.GetAtoms() if a.GetAtomicNum() == 6)
+    return frag.GetNumHeavyAtoms(), carbons, Chem.MolToSmiles(frag)

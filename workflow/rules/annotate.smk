@@ -1,0 +1,20 @@
+rule annotate_chunk:
+    input:
+        chunk=f"{OUTDIR}/{{library}}/chunks/input/{{chunk}}.parquet",
+        user_rules=USER_RULES,
+    output:
+        annotated=f"{OUTDIR}/{{library}}/chunks/annotated/{{chunk}}.parquet",
+    log:
+        f"{OUTDIR}/logs/{{library}}/annotate_chunk/{{chunk}}.log",
+    benchmark:
+        f"{OUTDIR}/benchmarks/{{library}}/annotate_chunk/{{chunk}}.tsv"
+    conda:
+        ENV
+    threads: 1
+    resources:
+        mem_mb=CHUNK_MEM_MB,
+        runtime=CHUNK_RUNTIME_MIN,
+    params:
+        settings=SETTINGS,
+    script:
+        "../scripts/annotate_chunk.py"
