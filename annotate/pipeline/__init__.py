@@ -5,7 +5,7 @@ Data flow per library: input file -> ``split_library`` -> chunk files + manifest
 ``annotated.parquet`` -> QC (:mod:`annotate.qc`).
 """
 
-from annotate.pipeline.annotate_chunk import annotate_chunk
+from annotate.pipeline.annotation import annotate_chunk
 from annotate.pipeline.config import expand_library_shorthand, library_specs, settings_from_config
 from annotate.pipeline.gather import RecordCountError, gather_annotations
 from annotate.pipeline.joblog import log_progress

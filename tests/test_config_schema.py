@@ -1,0 +1,123 @@
+"""The workflow config schema: defaults, rejections that name the key, agreement with the package."""
+
+from __future__ import annotations
+
+import copy
+import dataclasses
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+import yaml
+from snakemake.exceptions import WorkflowError
+from snakemake.utils import validate
+
+from annotate.io.library import LibrarySpec
+from annotate.pipeline import expand_library_shorthand, library_specs, settings_from_config
+from annotate.settings import Settings
+
+ROOT = Path(__file__).resolve().parents[1]
+SCHEMA_PATH = ROOT / "workflow" / "schemas" / "config.schema.yaml"
+SCHEMA = yaml.safe_load(SCHEMA_PATH.read_text())
+DEFAULT_CONFIG = yaml.safe_load((ROOT / "config" / "config.yaml").read_text())
+
+
+def validated(config: dict) -> dict:
+    """What workflow/rules/common.smk does before any rule sees the config."""
+    config = copy.deepcopy(config)
+    if "libraries" in config:
+        config["libraries"] = expand_library_shorthand(config["libraries"])
+    validate(config, str(SCHEMA_PATH))
+    return config
+
+
+def rejection(config: dict) -> str:
+    with pytest.raises(WorkflowError) as caught:
+        validated(config)
+    return str(caught.value)
+
+
+MINIMAL = {"libraries": {"mine": "data/mine.sdf"}, "ph": [7.4, 5.0], "outdir": "out"}
+
+
+def test_every_key_has_a_description_and_a_default() -> None:
+    entry = SCHEMA["properties"]["libraries"]["additionalProperties"]["properties"]
+    for properties in (SCHEMA["properties"], entry):
+        for key, spec in properties.items():
+            assert "description" in spec, key
+            assert "default" in spec or key == "path", key
+
+
+def test_shipped_config_is_valid_and_uses_schema_defaults() -> None:
+    config = validated(DEFAULT_CONFIG)
+    defaults = {k: v["default"] for k, v in SCHEMA["properties"].items() if k != "libraries"}
+    assert {k: v for k, v in config.items() if k != "libraries"} == defaults
+
+
+def test_a_minimal_user_config_gets_every_other_default() -> None:
+    config = validated(MINIMAL)
+    assert config["chunk_size"] == SCHEMA["properties"]["chunk_size"]["default"]
+    assert config["libraries"]["mine"] == {
+        "path": "data/mine.sdf", "format": "auto", "structure": "auto",
+        "smiles_column": "smiles", "molblock_column": "molblock", "id_column": "id",
+    }
+
+
+@pytest.mark.parametrize(
+    ("change", "named"),
+    [
+        ({"ph": [7.4, 15]}, "ph"),
+        ({"ph": []}, "ph"),
+        ({"chunk_size": -5}, "chunk_size"),
+        ({"chunk_size": 0}, "chunk_size"),
+        ({"min_fraction": 0}, "min_fraction"),
+        ({"chunksize": 10}, "chunksize"),
+        ({"libraries": {"mine": {"path": "x.sdf", "format": "mol2"}}}, "format"),
+        ({"libraries": {"mine": {"path": "x.sdf", "smiles_col": "s"}}}, "smiles_col"),
+        ({"libraries": {"../up": "x.sdf"}}, "../up"),
+        ({"libraries": {}}, "libraries"),
+        ({"libraries": ["x.sdf"]}, "libraries"),
+    ],
+)
+def test_bad_values_are_rejected_naming_the_key(change: dict, named: str) -> None:
+    assert named in rejection({**MINIMAL, **change})
+
+
+def test_missing_libraries_are_rejected() -> None:
+    assert "'libraries' is a required property" in rejection({"ph": [7.4]})
+
+
+def test_settings_defaults_match_the_schema() -> None:
+    config = validated(MINIMAL)
+    assert settings_from_config({**config, "ph": [7.4]}) == Settings()
+    assert settings_from_config(config).ph == (7.4, 5.0)
+
+
+def test_library_defaults_match_the_schema() -> None:
+    entry = SCHEMA["properties"]["libraries"]["additionalProperties"]["properties"]
+    for field in dataclasses.fields(LibrarySpec):
+        if field.name in entry and "default" in entry[field.name]:
+            assert field.default == entry[field.name]["default"], field.name
+    config = validated(MINIMAL)
+    assert library_specs(config["libraries"]) == {"mine": LibrarySpec(name="mine", path=Path("data/mine.sdf"))}
+
+
+def test_user_rules_becomes_a_path() -> None:
+    config = validated({**MINIMAL, "user_rules": "my_rules.tsv"})
+    assert settings_from_config(config).user_rules == Path("my_rules.tsv")
+
+
+@pytest.mark.slow
+def test_the_workflow_itself_refuses_a_bad_config_naming_the_key(tmp_path: Path) -> None:
+    bad = tmp_path / "bad.yaml"
+    bad.write_text(yaml.safe_dump({**MINIMAL, "ph": [15]}))
+    run = subprocess.run(
+        [sys.executable, "-m", "snakemake", "--dry-run", "--snakefile", str(ROOT / "Snakefile"),
+         "--directory", str(tmp_path), "--configfile", str(bad)],
+        capture_output=True, text=True, check=False,
+    )
+    assert run.returncode != 0
+    assert "Error validating config file" in run.stderr
+    assert "15 is greater than the maximum of 14" in run.stderr
+    assert "['ph']" in run.stderr
