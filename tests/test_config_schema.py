@@ -115,9 +115,9 @@ def test_the_workflow_itself_refuses_a_bad_config_naming_the_key(tmp_path: Path)
     run = subprocess.run(
         [sys.executable, "-m", "snakemake", "--dry-run", "--snakefile", str(ROOT / "Snakefile"),
          "--directory", str(tmp_path), "--configfile", str(bad)],
-        capture_output=True, text=True, check=False,
+        stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True, check=False,
     )
     assert run.returncode != 0
-    assert "Error validating config file" in run.stderr
-    assert "15 is greater than the maximum of 14" in run.stderr
-    assert "['ph']" in run.stderr
+    assert "Error validating config file" in run.stdout
+    assert "15 is greater than the maximum of 14" in run.stdout
+    assert "['ph']" in run.stdout
