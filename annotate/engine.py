@@ -124,7 +124,7 @@ def _with_interactions(sites: tuple[Site, ...], model: MicrostateModel) -> tuple
     apparent = model.titration_pka([s.kind for s in sites], [s.pka for s in sites])
     out = []
     for site, value in zip(sites, apparent, strict=True):
-        shift = round(value - site.pka, 3)
+        shift = round(float(value) - site.pka, 3)
         if abs(shift) < 0.01:
             out.append(site)
             continue

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 from rdkit import Chem, RDLogger
 
 RDLogger.DisableLog("rdApp.*")  # reasons are returned per record, not printed
@@ -11,10 +13,25 @@ def mol_from_smiles(text: str | None) -> tuple[Chem.Mol | None, str | None]:
     """Parse a SMILES; on failure return (None, reason)."""
     if text is None or not text.strip():
         return None, "empty SMILES"
-    mol = Chem.MolFromSmiles(text.strip(), sanitize=False)
+    text = text.strip()
+    stray = _stray_character(text)
+    if stray:
+        return None, stray
+    mol = Chem.MolFromSmiles(text, sanitize=False)
     if mol is None:
         return None, "unparsable SMILES"
     return _sanitized(mol)
+
+
+def _stray_character(text: str) -> str | None:
+    """RDKit stops reading at a space, a NUL or some non-ASCII bytes and returns the
+    part before it, so 'CC(=O)O junk' would pass as acetic acid; SMILES is printable ASCII."""
+    for position, char in enumerate(text, start=1):
+        if char.isspace():
+            return f"SMILES contains whitespace at position {position}; the text after it would be ignored"
+        if not " " < char <= "~":
+            return f"SMILES contains a non-ASCII or control character {char!r} at position {position}"
+    return None
 
 
 def mol_from_molblock(text: str | None) -> tuple[Chem.Mol | None, str | None]:
@@ -23,8 +40,61 @@ def mol_from_molblock(text: str | None) -> tuple[Chem.Mol | None, str | None]:
         return None, "empty molblock"
     mol = Chem.MolFromMolBlock(text, sanitize=False, removeHs=False, strictParsing=True)
     if mol is None:
-        return None, "unreadable molblock (bad counts line, atom or bond block)"
+        return None, f"unreadable molblock: {_molblock_problem(text)}"
     return _sanitized(mol)
+
+
+def _molblock_problem(text: str) -> str:
+    """Where a V2000 block RDKit rejected goes wrong, measured against its own counts line."""
+    lines = text.splitlines()
+    if len(lines) < 4 or not lines[3].strip():
+        return "no counts line (line 4)"
+    counts = lines[3]
+    if "V3000" in counts:
+        return "V3000 blocks are read by RDKit only; it rejected this one"
+    try:
+        n_atoms, n_bonds = int(counts[0:3]), int(counts[3:6])
+    except ValueError:
+        return f"counts line {counts.strip()!r} does not start with the atom and bond numbers"
+    body = lines[4:]
+    atoms = _leading(body, _is_atom_line)
+    if atoms < n_atoms and atoms == len(body):
+        return f"text ends inside the atom block ({atoms} of {n_atoms} atom lines)"
+    if atoms != n_atoms:
+        return f"counts line says {n_atoms} atoms but the atom block has {atoms} lines"
+    bonds = _leading(body[atoms:], _is_bond_line)
+    if bonds < n_bonds and atoms + bonds == len(body):
+        return f"text ends inside the bond block ({bonds} of {n_bonds} bond lines)"
+    if bonds != n_bonds:
+        return f"counts line says {n_bonds} bonds but the bond block has {bonds} lines"
+    if not any(line.startswith("M  END") for line in body):
+        return "no 'M  END' line"
+    return "malformed atom, bond or property line"
+
+
+def _leading(lines: list[str], test: Callable[[str], bool]) -> int:
+    count = 0
+    for line in lines:
+        if not test(line):
+            break
+        count += 1
+    return count
+
+
+def _is_atom_line(line: str) -> bool:
+    words = line.split()
+    if len(words) < 4 or words[3].lstrip("-").isdigit():
+        return False
+    try:
+        [float(w) for w in words[:3]]
+    except ValueError:
+        return False
+    return True
+
+
+def _is_bond_line(line: str) -> bool:
+    words = line.split()
+    return len(words) >= 3 and all(w.isdigit() for w in words[:3]) and not line.startswith("M  ")
 
 
 def _sanitized(mol: Chem.Mol) -> tuple[Chem.Mol | None, str | None]:

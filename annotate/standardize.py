@@ -36,7 +36,7 @@ def parent_of(mol: Chem.Mol, *, keep_largest_fragment: bool = True, neutralize: 
     warning = False
     if mol.GetNumHeavyAtoms() == 0:
         raise RecordError("no heavy atoms")
-    fragments = Chem.GetMolFrags(mol, asMols=True, sanitizeFrags=False)
+    fragments = Chem.GetMolFrags(mol, asMols=True, sanitizeFrags=True)
     if len(fragments) > 1:
         if not keep_largest_fragment:
             raise RecordError(f"{len(fragments)} fragments and fragment removal is switched off")

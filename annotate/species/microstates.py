@@ -69,7 +69,7 @@ class MicrostateModel:
                 charged_i = -1 if kind_i == "acid" else 1
                 w = self.w_like[i, j] if charged_i == q_j else self.w_opp[i, j]
                 shift -= w * q_j
-            out.append(pka_i + shift)
+            out.append(float(pka_i + shift))
         return out
 
     def fractions(self, ph: float) -> np.ndarray:
