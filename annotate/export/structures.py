@@ -1,0 +1,181 @@
+"""Docking-ready species structures: each protonation state as a molecule with hydrogens.
+
+Species are rebuilt by editing the parent's atoms in place, so 3D input keeps
+its heavy-atom coordinates exactly and no stereo tag is created or dropped.
+A base nitrogen that becomes a potential stereocentre on protonation stays
+unspecified: its configuration is not known, only drawn (in 3D input the new
+hydrogen's position is a geometric choice, not a claim).
+"""
+
+from __future__ import annotations
+
+import logging
+import os
+from collections.abc import Iterable, Sequence
+from typing import Literal
+
+from rdkit import Chem
+from rdkit.Chem import AllChem
+
+from annotate.engine import annotate_mol, annotate_parent
+from annotate.io.atomic import atomic_path
+from annotate.results import MoleculeResult, Site, Species
+from annotate.settings import Settings
+from annotate.species.build import species_mol
+from annotate.standardize import parent_of
+
+Which = Literal["dominant", "all"]
+SMILES_HEADER = ("smiles", "id", "ph", "charge", "fraction")
+_LOG = logging.getLogger(__name__)
+#: force-field steps for the clean-up after embedding; a quick relaxation, not a minimum
+_CLEANUP_ITERATIONS = 200
+
+
+def docking_records(
+    mol: Chem.Mol | None,
+    *,
+    id: str,
+    settings: Settings,
+    which: Which,
+    max_per_molecule: int,
+    embed_3d: bool,
+    seed: int,
+) -> list[Chem.Mol]:
+    """Species of one input molecule, at every configured pH, as molecules with explicit H.
+
+    ``which="dominant"`` gives the most abundant species per pH; ``"all"`` every
+    species the annotation keeps (above ``settings.min_fraction``). At most
+    ``max_per_molecule`` records in total, in pH order then rank. 3D input keeps
+    its coordinates (``embed_3d`` is ignored); otherwise 2D input coordinates
+    are kept or a depiction drawn, or with ``embed_3d`` one seeded conformer is
+    generated. A record that cannot be built gives ``[]`` (the reason is logged)
+    so one molecule never stops a library.
+    """
+    if which not in ("dominant", "all"):
+        raise ValueError(f"which must be 'dominant' or 'all', not {which!r}")
+    if max_per_molecule < 1:
+        raise ValueError(f"max_per_molecule must be at least 1, not {max_per_molecule}")
+    if mol is None:
+        return []
+    try:
+        return _records(mol, id=id, settings=settings, which=which, limit=max_per_molecule, embed_3d=embed_3d, seed=seed)
+    except Exception as exc:  # one bad record must never stop an export
+        _LOG.warning("%s: no structures written: %s: %s", id, type(exc).__name__, exc)
+        return []
+
+
+def _records(
+    mol: Chem.Mol, *, id: str, settings: Settings, which: Which, limit: int, embed_3d: bool, seed: int
+) -> list[Chem.Mol]:
+    result = annotate_mol(mol, id=id, settings=settings)
+    if result.status == "error":
+        raise ValueError(result.message or "annotation failed")
+    parent = parent_of(mol, keep_largest_fragment=settings.keep_largest_fragment, neutralize=settings.neutralize).mol
+    sites, _ = annotate_parent(parent, settings=settings)
+    _check_same_parent(parent, sites, result)
+    has_3d = parent.GetNumConformers() > 0 and parent.GetConformer().Is3D()
+    properties = _input_properties(mol)
+    records: list[Chem.Mol] = []
+    for state in result.ph_states:
+        chosen = state.species[:1] if which == "dominant" else state.species
+        for rank, species in enumerate(chosen, start=1):
+            if len(records) == limit:
+                return records
+            structure = _placed(species_mol(parent, sites, species.protonated), has_3d=has_3d, embed_3d=embed_3d, seed=seed)
+            _label(structure, id=id, ph=state.ph, rank=rank, species=species, result=result, properties=properties)
+            records.append(structure)
+    return records
+
+
+def _check_same_parent(parent: Chem.Mol, sites: Sequence[Site], result: MoleculeResult) -> None:
+    """Species patterns come from the result; they only apply if both saw the same parent."""
+    same = Chem.MolToSmiles(Chem.Mol(parent)) == result.parent_smiles and [s.kind for s in sites] == [
+        s.kind for s in result.sites
+    ]
+    if not same:
+        raise RuntimeError("parent used for structures differs from the annotated parent")
+
+
+def _placed(species: Chem.Mol, *, has_3d: bool, embed_3d: bool, seed: int) -> Chem.Mol:
+    """Explicit hydrogens with coordinates that suit the input's dimensionality."""
+    if has_3d:
+        return Chem.AddHs(species, addCoords=True)
+    if embed_3d:
+        return _embedded(species, seed=seed)
+    if species.GetNumConformers() == 0:
+        species = Chem.Mol(species)
+        AllChem.Compute2DCoords(species)
+    return Chem.AddHs(species, addCoords=True)
+
+
+def _embedded(species: Chem.Mol, *, seed: int) -> Chem.Mol:
+    mol = Chem.AddHs(species)
+    params = AllChem.ETKDGv3()
+    params.randomSeed = seed
+    if AllChem.EmbedMolecule(mol, params) < 0:
+        raise RuntimeError("3D embedding failed")
+    if AllChem.MMFFHasAllMoleculeParams(mol):
+        AllChem.MMFFOptimizeMolecule(mol, maxIters=_CLEANUP_ITERATIONS)
+    elif AllChem.UFFHasAllMoleculeParams(mol):
+        AllChem.UFFOptimizeMolecule(mol, maxIters=_CLEANUP_ITERATIONS)
+    return mol
+
+
+def _input_properties(mol: Chem.Mol) -> dict[str, str]:
+    """SD properties as text; private and computed RDKit properties are not data."""
+    return {k: str(v) for k, v in mol.GetPropsAsDict(includePrivate=False, includeComputed=False).items()}
+
+
+def _label(
+    mol: Chem.Mol,
+    *,
+    id: str,
+    ph: float,
+    rank: int,
+    species: Species,
+    result: MoleculeResult,
+    properties: dict[str, str],
+) -> None:
+    """Input properties first, so our own names win a clash and always mean one thing."""
+    for key, value in properties.items():
+        mol.SetProp(key, value)
+    mol.SetProp("_Name", id)
+    mol.SetProp("ionotate_id", id)
+    mol.SetDoubleProp("ionotate_ph", ph)
+    mol.SetIntProp("ionotate_rank", rank)
+    mol.SetIntProp("ionotate_charge", species.charge)
+    mol.SetDoubleProp("ionotate_fraction", species.fraction)
+    mol.SetProp("ionotate_macro_pka", " ".join(f"{v:.2f}" for v in sorted(result.macro_pka)))
+
+
+def write_sdf(records: Iterable[Chem.Mol], path: str | os.PathLike[str]) -> int:
+    """Write records to an SD file atomically; returns how many were written."""
+    count = 0
+    with atomic_path(path) as tmp:
+        writer = Chem.SDWriter(str(tmp))
+        try:
+            for mol in records:
+                writer.write(mol)
+                count += 1
+        finally:
+            writer.close()
+    return count
+
+
+def write_smiles(records: Iterable[Chem.Mol], path: str | os.PathLike[str]) -> int:
+    """Write a tab-separated SMILES file (with header) atomically; returns the row count."""
+    count = 0
+    with atomic_path(path) as tmp, open(tmp, "w", encoding="utf-8", newline="\n") as out:
+        out.write("\t".join(SMILES_HEADER) + "\n")
+        for mol in records:
+            smiles = Chem.MolToSmiles(Chem.RemoveHs(mol))
+            row = (
+                smiles,
+                mol.GetProp("ionotate_id"),
+                f"{mol.GetDoubleProp('ionotate_ph'):g}",
+                str(mol.GetIntProp("ionotate_charge")),
+                f"{mol.GetDoubleProp('ionotate_fraction'):.6g}",
+            )
+            out.write("\t".join(row) + "\n")
+            count += 1
+    return count
