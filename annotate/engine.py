@@ -27,6 +27,9 @@ from annotate.standardize import RecordError, parent_of
 DEFAULT = Settings()
 #: microstates below min_fraction * this are not turned into structures
 _STRUCTURE_FLOOR = 0.1
+#: most microstates turned into structures per pH, unless max_species asks for more
+#: (a fixed 64 once cut off 1% of the population when every species was requested)
+_STRUCTURE_BUDGET = 64
 
 
 def annotate_smiles(smiles: str, *, id: str = "", settings: Settings = DEFAULT) -> MoleculeResult:
@@ -96,11 +99,15 @@ def _annotate_parent(
     mol: Chem.Mol, messages: tuple[str, ...], warning: bool, id: str, settings: Settings, rules: RuleSet
 ) -> MoleculeResult:
     sites = _sites(mol, rules)
+    if not sites and not any(a.GetAtomicNum() == 6 for a in mol.GetAtoms()):
+        # a lone counter-ion, water or a mineral acid the rules do not cover
+        raise RecordError(f"no organic parent: {Chem.MolToSmiles(mol)} has no carbon and no ionizable site")
     model = _model(mol, sites, settings, rules)
     sites = _with_interactions(sites, model)
     parent_smiles = Chem.MolToSmiles(mol)
     notes = list(messages)
     if model.truncated:
+        warning = True  # populations are approximate; a filter on status must see it
         notes.append(
             f"approximation: {len(sites)} sites exceed the exact limit; "
             f"{model.truncated} sites near the pH window fixed in their dominant form"
@@ -153,7 +160,7 @@ def _ph_state(
     order = np.argsort(-fractions, kind="stable")
     floor = settings.min_fraction * _STRUCTURE_FLOOR
     merged: dict[str, list] = {}
-    for k in order[:64]:
+    for k in order[: max(_STRUCTURE_BUDGET, settings.max_species)]:
         f = float(fractions[k])
         if f < floor and merged:
             break

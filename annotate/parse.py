@@ -25,9 +25,13 @@ def mol_from_smiles(text: str | None) -> tuple[Chem.Mol | None, str | None]:
 
 def _stray_character(text: str) -> str | None:
     """RDKit stops reading at a space, a NUL or some non-ASCII bytes and returns the
-    part before it, so 'CC(=O)O junk' would pass as acetic acid; SMILES is printable ASCII."""
+    part before it, so 'CC(=O)O junk' would pass as acetic acid. SMILES is printable
+    ASCII; the one thing allowed after a space is a CXSMILES block ``|...|``."""
     for position, char in enumerate(text, start=1):
         if char.isspace():
+            extension = text[position:].strip()
+            if len(extension) > 1 and extension[0] == extension[-1] == "|" and not _stray_character(extension):
+                return None
             return f"SMILES contains whitespace at position {position}; the text after it would be ignored"
         if not " " < char <= "~":
             return f"SMILES contains a non-ASCII or control character {char!r} at position {position}"

@@ -34,8 +34,10 @@ def parent_of(mol: Chem.Mol, *, keep_largest_fragment: bool = True, neutralize: 
     """
     messages: list[str] = []
     warning = False
+    if any(a.GetAtomicNum() == 0 for a in mol.GetAtoms()):
+        raise RecordError("dummy atom '*' (attachment point or query atom): not a complete molecule")
     if mol.GetNumHeavyAtoms() == 0:
-        raise RecordError("no heavy atoms")
+        raise RecordError("no heavy atoms (hydrogen only)")
     fragments = Chem.GetMolFrags(mol, asMols=True, sanitizeFrags=True)
     if len(fragments) > 1:
         if not keep_largest_fragment:
@@ -53,10 +55,21 @@ def parent_of(mol: Chem.Mol, *, keep_largest_fragment: bool = True, neutralize: 
     if any(a.GetNumRadicalElectrons() for a in mol.GetAtoms()):
         raise RecordError("radical: an atom has unpaired electrons")
     if any(a.GetAtomicNum() == 1 for a in mol.GetAtoms()):
+        exchangeable = [a for a in mol.GetAtoms() if _exchangeable_isotope(a)]
+        for atom in exchangeable:
+            atom.SetIsotope(0)  # mol is a copy or a new fragment here, never the input
+        if exchangeable:
+            messages.append(
+                f"replaced {len(exchangeable)} hydrogen isotope(s) on N/O/S by H: they exchange with water"
+            )
         mol = Chem.RemoveHs(mol, sanitize=True)
     if neutralize and any(a.GetFormalCharge() for a in mol.GetAtoms()):
         before = sum(1 for a in mol.GetAtoms() if a.GetFormalCharge())
-        mol = _UNCHARGER.uncharge(mol)
+        uncharged = _UNCHARGER.uncharge(mol)
+        if Chem.SanitizeMol(uncharged, catchErrors=True) == Chem.SanitizeFlags.SANITIZE_NONE:
+            mol = uncharged
+        else:  # e.g. PF6-: the neutral form would break a valence rule
+            messages.append("kept the drawn charges: the neutral form is not a valid structure")
         after = sum(1 for a in mol.GetAtoms() if a.GetFormalCharge())
         if after < before:
             messages.append(f"neutralised {before - after} charged atom(s)")
@@ -70,7 +83,20 @@ def parent_of(mol: Chem.Mol, *, keep_largest_fragment: bool = True, neutralize: 
 _UNCHARGER = rdMolStandardize.Uncharger(canonicalOrder=True)
 
 
-def _fragment_rank(frag: Chem.Mol) -> tuple[int, int, str]:
-    """Most heavy atoms, then most carbons, then SMILES order, so ties break the same way."""
+def _exchangeable_isotope(atom: Chem.Atom) -> bool:
+    """A D or T on a heteroatom: kept as a graph atom it would count as a substituent of
+    the site and block deprotonation, yet in water it is an ordinary H within seconds."""
+    return (
+        atom.GetAtomicNum() == 1
+        and atom.GetIsotope() > 0
+        and any(n.GetAtomicNum() not in (1, 6) for n in atom.GetNeighbors())
+    )
+
+
+def _fragment_rank(frag: Chem.Mol) -> tuple[bool, bool, int, int, str]:
+    """Carbon-bearing fragments first (a sulfate or PF6 counter-ion can outweigh a small
+    amine), then supported elements only, most heavy atoms, most carbons, SMILES order,
+    so ties break the same way. An organometallic is kept, to be reported, not dropped."""
     carbons = sum(1 for a in frag.GetAtoms() if a.GetAtomicNum() == 6)
-    return frag.GetNumHeavyAtoms(), carbons, Chem.MolToSmiles(frag)
+    supported = all(a.GetAtomicNum() in ORGANIC for a in frag.GetAtoms())
+    return carbons > 0, supported, frag.GetNumHeavyAtoms(), carbons, Chem.MolToSmiles(frag)

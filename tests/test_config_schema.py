@@ -8,6 +8,7 @@ import subprocess
 import sys
 from pathlib import Path
 
+import jsonschema
 import pytest
 import yaml
 from snakemake.exceptions import WorkflowError
@@ -32,10 +33,13 @@ def validated(config: dict) -> dict:
     return config
 
 
-def rejection(config: dict) -> str:
-    with pytest.raises(WorkflowError) as caught:
+def rejection(config: dict) -> tuple[list[str | int], str]:
+    """Where in the config validation failed, and the validator's one-line reason."""
+    with pytest.raises(WorkflowError, match="Error validating config file") as caught:
         validated(config)
-    return str(caught.value)
+    error = caught.value.__context__
+    assert isinstance(error, jsonschema.ValidationError)
+    return list(error.absolute_path), error.message
 
 
 MINIMAL = {"libraries": {"mine": "data/mine.sdf"}, "ph": [7.4, 5.0], "outdir": "out"}
@@ -59,33 +63,47 @@ def test_a_minimal_user_config_gets_every_other_default() -> None:
     config = validated(MINIMAL)
     assert config["chunk_size"] == SCHEMA["properties"]["chunk_size"]["default"]
     assert config["libraries"]["mine"] == {
-        "path": "data/mine.sdf", "format": "auto", "structure": "auto",
-        "smiles_column": "smiles", "molblock_column": "molblock", "id_column": "id",
+        "path": "data/mine.sdf",
+        "format": "auto",
+        "structure": "auto",
+        "smiles_column": "smiles",
+        "molblock_column": "molblock",
+        "id_column": "id",
     }
 
 
 @pytest.mark.parametrize(
-    ("change", "named"),
+    ("change", "where", "reason"),
     [
-        ({"ph": [7.4, 15]}, "ph"),
-        ({"ph": []}, "ph"),
-        ({"chunk_size": -5}, "chunk_size"),
-        ({"chunk_size": 0}, "chunk_size"),
-        ({"min_fraction": 0}, "min_fraction"),
-        ({"chunksize": 10}, "chunksize"),
-        ({"libraries": {"mine": {"path": "x.sdf", "format": "mol2"}}}, "format"),
-        ({"libraries": {"mine": {"path": "x.sdf", "smiles_col": "s"}}}, "smiles_col"),
-        ({"libraries": {"../up": "x.sdf"}}, "../up"),
-        ({"libraries": {}}, "libraries"),
-        ({"libraries": ["x.sdf"]}, "libraries"),
+        ({"ph": [7.4, 15]}, ["ph", 1], "15 is greater than the maximum of 14"),
+        ({"ph": []}, ["ph"], "[] should be non-empty"),
+        ({"chunk_size": -5}, ["chunk_size"], "-5 is less than the minimum of 1"),
+        ({"chunk_size": 0}, ["chunk_size"], "0 is less than the minimum of 1"),
+        ({"min_fraction": 0}, ["min_fraction"], "0 is less than or equal to the minimum of 0"),
+        ({"chunksize": 10}, [], "('chunksize' was unexpected)"),
+        (
+            {"libraries": {"mine": {"path": "x.sdf", "format": "mol2"}}},
+            ["libraries", "mine", "format"],
+            "'mol2'",
+        ),
+        (
+            {"libraries": {"mine": {"path": "x.sdf", "smiles_col": "s"}}},
+            ["libraries", "mine"],
+            "'smiles_col'",
+        ),
+        ({"libraries": {"../up": "x.sdf"}}, ["libraries"], "'../up' does not match"),
+        ({"libraries": {}}, ["libraries"], "{} should be non-empty"),
+        ({"libraries": ["x.sdf"]}, ["libraries"], "is not of type 'object'"),
     ],
 )
-def test_bad_values_are_rejected_naming_the_key(change: dict, named: str) -> None:
-    assert named in rejection({**MINIMAL, **change})
+def test_bad_values_are_rejected_naming_the_key(change: dict, where: list, reason: str) -> None:
+    path, message = rejection({**MINIMAL, **change})
+    assert path == where
+    assert reason in message
 
 
 def test_missing_libraries_are_rejected() -> None:
-    assert "'libraries' is a required property" in rejection({"ph": [7.4]})
+    assert rejection({"ph": [7.4]}) == ([], "'libraries' is a required property")
 
 
 def test_settings_defaults_match_the_schema() -> None:
@@ -100,7 +118,9 @@ def test_library_defaults_match_the_schema() -> None:
         if field.name in entry and "default" in entry[field.name]:
             assert field.default == entry[field.name]["default"], field.name
     config = validated(MINIMAL)
-    assert library_specs(config["libraries"]) == {"mine": LibrarySpec(name="mine", path=Path("data/mine.sdf"))}
+    assert library_specs(config["libraries"]) == {
+        "mine": LibrarySpec(name="mine", path=Path("data/mine.sdf"))
+    }
 
 
 def test_user_rules_becomes_a_path() -> None:
@@ -113,11 +133,24 @@ def test_the_workflow_itself_refuses_a_bad_config_naming_the_key(tmp_path: Path)
     bad = tmp_path / "bad.yaml"
     bad.write_text(yaml.safe_dump({**MINIMAL, "ph": [15]}))
     run = subprocess.run(
-        [sys.executable, "-m", "snakemake", "--dry-run", "--snakefile", str(ROOT / "Snakefile"),
-         "--directory", str(tmp_path), "--configfile", str(bad)],
-        stdout=subprocess.PIPE, stderr=subprocess.STDOUT, text=True, check=False,
+        [
+            sys.executable,
+            "-m",
+            "snakemake",
+            "--dry-run",
+            "--snakefile",
+            str(ROOT / "Snakefile"),
+            "--directory",
+            str(tmp_path),
+            "--configfile",
+            str(bad),
+        ],
+        stdout=subprocess.PIPE,
+        stderr=subprocess.STDOUT,
+        text=True,
+        check=False,
     )
     assert run.returncode != 0
     assert "Error validating config file" in run.stdout
     assert "15 is greater than the maximum of 14" in run.stdout
-    assert "['ph']" in run.stdout
+    assert "On instance['ph'][0]" in run.stdout

@@ -16,7 +16,10 @@ from annotate.io.records import TextRecord
 
 
 def sizes_and_starts(spec: LibrarySpec, chunk_size: int) -> list[tuple[int, int]]:
-    return [(c.num_rows, c.column("input_index")[0].as_py() if c.num_rows else -1) for c in iter_chunks(spec, chunk_size=chunk_size)]
+    return [
+        (c.num_rows, c.column("input_index")[0].as_py() if c.num_rows else -1)
+        for c in iter_chunks(spec, chunk_size=chunk_size)
+    ]
 
 
 @pytest.mark.parametrize("fmt", ["smi", "csv", "parquet"])
@@ -45,7 +48,9 @@ def test_sdf_chunks_carry_the_properties_each_chunk_has(tmp_path: Path) -> None:
     assert table.column("q").to_pylist() == [None, "2"]
 
 
-@pytest.mark.parametrize(("name", "content"), [("empty.sdf", ""), ("empty.smi", "# nothing\n"), ("empty.csv", "")])
+@pytest.mark.parametrize(
+    ("name", "content"), [("empty.sdf", ""), ("empty.smi", "# nothing\n"), ("empty.csv", "")]
+)
 def test_empty_library_gives_one_empty_typed_chunk(tmp_path: Path, name: str, content: str) -> None:
     path = tmp_path / name
     path.write_text(content)
@@ -80,3 +85,10 @@ def test_rebatch_keeps_every_row_in_order_in_full_chunks(batch_sizes: list[int],
     assert all(0 < t.num_rows <= size for t in out)
     flat = [v for t in out for v in t.column("i").to_pylist()]
     assert flat == list(range(start))
+
+
+def test_compressed_table_is_refused_before_reading(tmp_path: Path) -> None:
+    path = tmp_path / "lib.csv.gz"
+    path.write_bytes(b"not even gzip")
+    with pytest.raises(ValueError, match="gzip is supported for SDF and SMILES files only"):
+        list(iter_chunks(LibrarySpec(name="e", path=path), chunk_size=5))

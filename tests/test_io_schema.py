@@ -23,7 +23,12 @@ from annotate.results import MoleculeResult, PhState, Site, Species, Term
 from annotate.settings import Settings
 
 SITE = Site(
-    atom=3, kind="acid", group="carboxylic acid", category="oxy acid", pka=4.2, pka_sd=0.3,
+    atom=3,
+    kind="acid",
+    group="carboxylic acid",
+    category="oxy acid",
+    pka=4.2,
+    pka_sd=0.3,
     terms=(Term("base value", 4.0), Term("neighbour", 0.2)),
 )
 STATE = PhState(
@@ -41,12 +46,23 @@ def test_ok_result_row_holds_sites_sorted_macro_pka_and_dominant_species() -> No
     row = result_row(OK)
     assert row["status"] == "ok" and row["message"] is None
     assert row["sites"] == [
-        {"atom": 3, "kind": "acid", "group": "carboxylic acid", "pka": 4.2, "pka_sd": 0.3, "explain": SITE.explain}
+        {
+            "atom": 3,
+            "kind": "acid",
+            "group": "carboxylic acid",
+            "pka": 4.2,
+            "pka_sd": 0.3,
+            "explain": SITE.explain,
+        }
     ]
     assert row["macro_pka"] == [4.2, 9.0]
     (state,) = row["ph_states"]
     assert (state["ph"], state["charge_mean"], state["charge"], state["smiles"], state["fraction"]) == (
-        7.4, -0.98, -1, "CC(=O)[O-]", 0.98,
+        7.4,
+        -0.98,
+        -1,
+        "CC(=O)[O-]",
+        0.98,
     )
     assert [s["smiles"] for s in state["species"]] == ["CC(=O)[O-]", "CC(=O)O"]
 
@@ -74,13 +90,29 @@ def test_declared_types_as_polars_sees_them() -> None:
     schema = pl.from_arrow(ANNOTATION_SCHEMA.empty_table()).schema
     assert schema["input_index"] == pl.Int64
     assert schema["sites"] == pl.List(
-        pl.Struct({"atom": pl.Int32, "kind": pl.String, "group": pl.String, "pka": pl.Float64,
-                   "pka_sd": pl.Float64, "explain": pl.String})
+        pl.Struct(
+            {
+                "atom": pl.Int32,
+                "kind": pl.String,
+                "group": pl.String,
+                "pka": pl.Float64,
+                "pka_sd": pl.Float64,
+                "explain": pl.String,
+            }
+        )
     )
     species = pl.List(pl.Struct({"smiles": pl.String, "charge": pl.Int32, "fraction": pl.Float64}))
     assert schema["ph_states"] == pl.List(
-        pl.Struct({"ph": pl.Float64, "charge_mean": pl.Float64, "charge": pl.Int32, "smiles": pl.String,
-                   "fraction": pl.Float64, "species": species})
+        pl.Struct(
+            {
+                "ph": pl.Float64,
+                "charge_mean": pl.Float64,
+                "charge": pl.Int32,
+                "smiles": pl.String,
+                "fraction": pl.Float64,
+                "species": species,
+            }
+        )
     )
 
 

@@ -75,12 +75,31 @@ def test_parquet_types_are_kept_exactly(tmp_path: Path) -> None:
     assert table.select(["smiles", "n", "tags", "when"]).equals(source)
 
 
+@pytest.mark.parametrize(
+    "column",
+    [
+        pa.array(["CCO", None], pa.large_string()),
+        pa.array(["CCO", None], pa.string_view()),
+        pa.array(["CCO", None]).dictionary_encode(),
+    ],
+    ids=["large_string", "string_view", "dictionary"],
+)
+def test_every_arrow_text_type_is_a_structure_column(tmp_path: Path, column: pa.Array) -> None:
+    path = tmp_path / "text.parquet"
+    pq.write_table(pa.table({"smiles": column}), path)
+    table = read_all(LibrarySpec(name="t", path=path))
+    assert table.column("record").to_pylist() == ["CCO", None]
+    assert table.column("read_error").to_pylist() == [None, "missing SMILES"]
+
+
 def test_wrong_structure_column_type_makes_every_row_an_error(tmp_path: Path) -> None:
     path = tmp_path / "ints.parquet"
     pq.write_table(pa.table({"smiles": [1, 2]}), path)
     table = read_all(LibrarySpec(name="t", path=path))
     assert table.column("record").to_pylist() == [None, None]
-    assert table.column("read_error").to_pylist() == ["SMILES column 'smiles' holds int64 values, not text"] * 2
+    assert (
+        table.column("read_error").to_pylist() == ["SMILES column 'smiles' holds int64 values, not text"] * 2
+    )
     assert table.column("smiles").to_pylist() == [1, 2]
 
 

@@ -53,7 +53,10 @@ def test_unreadable_record_is_an_error_row_with_its_reason(sdf_chunk: Path, tmp_
     annotate_chunk(sdf_chunk, out, settings=Settings())
     row = pq.read_table(out).slice(1, 1).to_pylist()[0]
     assert (row["status"], row["message"], row["parent_smiles"], row["sites"]) == (
-        "error", NO_MOLBLOCK_END, None, None,
+        "error",
+        NO_MOLBLOCK_END,
+        None,
+        None,
     )
 
 

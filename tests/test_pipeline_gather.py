@@ -14,7 +14,10 @@ from annotate.io.schema import ANNOTATION_SCHEMA, NOTICE, read_run_metadata
 from annotate.pipeline import RecordCountError, annotate_chunk, gather_annotations, split_library
 from annotate.settings import Settings
 
-SDF_RECORD = "{title}\n  test\n\n  1  0  0  0  0  0  0  0  0  0999 V2000\n    0.0000    0.0000    0.0000 C   0  0\nM  END\n{props}$$$$\n"
+SDF_RECORD = (
+    "{title}\n  test\n\n  1  0  0  0  0  0  0  0  0  0999 V2000\n"
+    "    0.0000    0.0000    0.0000 C   0  0\nM  END\n{props}$$$$\n"
+)
 
 
 def build(tmp_path: Path, sdf: str, *, chunk_size: int) -> tuple[Path, list[Path]]:

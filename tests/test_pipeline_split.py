@@ -20,12 +20,17 @@ def test_chunks_and_manifest_describe_every_record(tmp_path: Path) -> None:
     manifest = split_library(LibrarySpec(name="lib", path=source), out, chunk_size=2)
     assert read_manifest(out) == manifest
     assert [(c.name, c.first_index, c.records) for c in manifest.chunks] == [
-        ("000000", 0, 2), ("000001", 2, 2), ("000002", 4, 1),
+        ("000000", 0, 2),
+        ("000001", 2, 2),
+        ("000002", 4, 1),
     ]
     assert manifest.records == 5 and manifest.record_kind == "smiles"
     assert json.loads((out / "manifest.json").read_text())["records"] == 5
     assert sorted(p.name for p in out.iterdir()) == [
-        "000000.parquet", "000001.parquet", "000002.parquet", "manifest.json",
+        "000000.parquet",
+        "000001.parquet",
+        "000002.parquet",
+        "manifest.json",
     ]
     first = pq.read_table(out / "000000.parquet")
     assert first.column("id").to_pylist() == ["m0", "m1"]
@@ -41,4 +46,3 @@ def test_a_failed_split_leaves_no_chunk_directory(tmp_path: Path) -> None:
     with pytest.raises(ValueError, match="no column 'smiles'"):
         split_library(LibrarySpec(name="lib", path=source), out, chunk_size=2)
     assert list(tmp_path.iterdir()) == [source]
-

@@ -21,6 +21,7 @@ from annotate.io.sdf import iter_sdf
 from annotate.io.smi import iter_smi
 from annotate.io.tables import iter_table_batches, table_columns, table_schema
 
+
 def record_kind(spec: LibrarySpec) -> RecordKind:
     """What the ``record`` column of this library's chunks holds."""
     fmt = spec.resolved_format
@@ -36,10 +37,10 @@ def iter_chunks(spec: LibrarySpec, *, chunk_size: int) -> Iterator[pa.Table]:
     """Yield consecutive chunks of at most ``chunk_size`` records; at least one."""
     if chunk_size < 1:
         raise ValueError(f"chunk_size must be at least 1, got {chunk_size}")
-    fmt = spec.resolved_format
+    fmt, gzipped = spec.resolved_format, spec.gzipped  # both fail early on a file we cannot read
     if fmt in ("sdf", "smi"):
         reader = iter_sdf if fmt == "sdf" else iter_smi
-        chunks = _text_chunks(reader(spec.path, gzipped=spec.gzipped), spec=spec, chunk_size=chunk_size)
+        chunks = _text_chunks(reader(spec.path, gzipped=gzipped), spec=spec, chunk_size=chunk_size)
     else:
         chunks = _table_chunks(spec, chunk_size=chunk_size)
     empty = True
@@ -61,10 +62,11 @@ def _text_chunks(records: Iterable[TextRecord], *, spec: LibrarySpec, chunk_size
 def text_chunk(records: list[TextRecord], *, first_index: int, library: str) -> pa.Table:
     """Chunk table of text records; properties become string columns, first seen first."""
     names = list(dict.fromkeys(name for r in records for name in r.properties))
-    index = range(first_index, first_index + len(records))
+    index = _positions(first_index, len(records))
+    titles = pa.chunked_array([pa.array([r.title for r in records], pa.string())])
     core = {
-        "input_index": list(index),
-        "id": [r.title or fallback_id(library, i) for r, i in zip(records, index, strict=True)],
+        "input_index": index.to_list(),
+        "id": _ids(titles, index=index, library=library).to_list(),
         "record": [r.text for r in records],
         "read_error": [r.error for r in records],
         "read_warning": [r.warning for r in records],
@@ -75,9 +77,8 @@ def text_chunk(records: list[TextRecord], *, first_index: int, library: str) -> 
     return pa.Table.from_arrays(columns, schema=pa.schema(fields))
 
 
-def fallback_id(library: str, index: int) -> str:
-    """The id of a record that brings none of its own."""
-    return f"{library}:{index}"
+def _positions(first_index: int, n: int) -> pl.Series:
+    return pl.int_range(first_index, first_index + n, dtype=pl.Int64, eager=True).alias("input_index")
 
 
 def _table_chunks(spec: LibrarySpec, *, chunk_size: int) -> Iterator[pa.Table]:
@@ -96,11 +97,17 @@ def _table_chunks(spec: LibrarySpec, *, chunk_size: int) -> Iterator[pa.Table]:
 
 
 def table_chunk(
-    batch: pa.Table, *, first_index: int, library: str, structure: str, kind: RecordKind, id_column: str | None
+    batch: pa.Table,
+    *,
+    first_index: int,
+    library: str,
+    structure: str,
+    kind: RecordKind,
+    id_column: str | None,
 ) -> pa.Table:
     """Chunk table of tabular rows: all input columns carried, typed as they came."""
     n = batch.num_rows
-    index = pl.int_range(first_index, first_index + n, dtype=pl.Int64, eager=True).alias("input_index")
+    index = _positions(first_index, n)
     record, error = _structure_text(batch.column(structure), kind=kind, name=structure)
     ids = _ids(batch.column(id_column) if id_column else None, index=index, library=library)
     core = pl.DataFrame([index, ids, record, error, pl.Series("read_warning", [None] * n, dtype=pl.String)])
@@ -108,7 +115,9 @@ def table_chunk(
     carried = carried_names(batch.column_names)
     return pa.Table.from_arrays(
         [*core_table.columns, *batch.columns],
-        schema=pa.schema([*CHUNK_SCHEMA, *(f.with_name(c) for f, c in zip(batch.schema, carried, strict=True))]),
+        schema=pa.schema(
+            [*CHUNK_SCHEMA, *(f.with_name(c) for f, c in zip(batch.schema, carried, strict=True))]
+        ),
     )
 
 
@@ -116,7 +125,7 @@ def _structure_text(column: pa.ChunkedArray, *, kind: RecordKind, name: str) -> 
     """The structure text of each row, or why there is none (missing, truncated, not text)."""
     n = len(column)
     label = "SMILES" if kind == "smiles" else "molblock"
-    if not (pa.types.is_string(column.type) or pa.types.is_large_string(column.type)):
+    if not _is_text(column.type):
         reason = f"{label} column {name!r} holds {column.type} values, not text"
         return (
             pl.Series("record", [None] * n, dtype=pl.String),
@@ -136,6 +145,13 @@ def _structure_text(column: pa.ChunkedArray, *, kind: RecordKind, name: str) -> 
         .alias("read_error"),
     )
     return frame["record"], frame["read_error"]
+
+
+def _is_text(kind: pa.DataType) -> bool:
+    """Any Arrow spelling of a text column, dictionary-encoded (categorical) included."""
+    if pa.types.is_dictionary(kind):
+        return _is_text(kind.value_type)
+    return pa.types.is_string(kind) or pa.types.is_large_string(kind) or pa.types.is_string_view(kind)
 
 
 def _ids(column: pa.ChunkedArray | None, *, index: pl.Series, library: str) -> pl.Series:

@@ -8,7 +8,7 @@ from __future__ import annotations
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Literal
+from typing import Any, Literal
 
 Format = Literal["sdf", "smi", "csv", "tsv", "parquet"]
 RecordKind = Literal["smiles", "molblock"]
@@ -44,8 +44,8 @@ class LibrarySpec:
         """Build from a config entry: a plain path string or a mapping with ``path``."""
         if isinstance(entry, str):
             return cls(name=name, path=Path(entry))
-        options = {k: v for k, v in entry.items() if k != "path"}
-        return cls(name=name, path=Path(str(entry["path"])), **options)  # type: ignore[arg-type]
+        options: dict[str, Any] = {k: v for k, v in entry.items() if k != "path"}
+        return cls(name=name, path=Path(str(entry["path"])), **options)
 
     @property
     def resolved_format(self) -> Format:

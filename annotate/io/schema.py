@@ -140,7 +140,9 @@ def output_schema(carried: Sequence[pa.Field], *, metadata: Mapping[str, str] | 
     return schema.with_metadata(dict(metadata)) if metadata else schema
 
 
-def run_metadata(*, library: str, source: Mapping[str, str], settings: Settings, version: str) -> dict[str, str]:
+def run_metadata(
+    *, library: str, source: Mapping[str, str], settings: Settings, version: str
+) -> dict[str, str]:
     """Key-value metadata written into every annotated file so it documents its own run."""
     settings_dict = {k: (str(v) if isinstance(v, Path) else v) for k, v in asdict(settings).items()}
     return {

@@ -62,7 +62,11 @@ def _scan_csv(spec: LibrarySpec, *, text_columns: tuple[str, ...], infer: bool) 
 def _plain_strings(table: pa.Table) -> pa.Table:
     """Polars exports large/view strings; plain strings keep the output schema simple."""
     fields = [
-        pa.field(f.name, pa.string()) if pa.types.is_large_string(f.type) or pa.types.is_string_view(f.type) else f
+        (
+            pa.field(f.name, pa.string())
+            if pa.types.is_large_string(f.type) or pa.types.is_string_view(f.type)
+            else f
+        )
         for f in table.schema
     ]
     return table.cast(pa.schema(fields))

@@ -22,7 +22,7 @@ from rdkit import rdBase
 import annotate
 from annotate.engine import annotate_molblock, annotate_smiles
 from annotate.io.atomic import atomic_path
-from annotate.io.schema import CHUNK_SCHEMA, META_PREFIX, annotation_table, input_fields, run_metadata
+from annotate.io.schema import CHUNK_SCHEMA, annotation_table, input_fields, read_run_metadata, run_metadata
 from annotate.results import MoleculeResult
 from annotate.settings import Settings
 
@@ -38,20 +38,24 @@ def annotate_chunk(chunk: str | Path, out: str | Path, *, settings: Settings) ->
     started = time.perf_counter()
     chunk = Path(chunk)
     table = pq.read_table(chunk)
-    meta = {k.decode(): v.decode() for k, v in (table.schema.metadata or {}).items()}
-    library = meta[META_PREFIX + "library"]
-    annotator = _ANNOTATORS[meta[META_PREFIX + "record_kind"]]
+    meta = read_run_metadata(table.schema)
+    library = meta["library"]
+    annotator = _ANNOTATORS[meta["record_kind"]]
     results = [
         _annotate_record(annotator, record=rec, id=id_, error=err, warning=warn, settings=settings)
         for rec, id_, err, warn in zip(
-            *(table.column(c).to_pylist() for c in ("record", "id", "read_error", "read_warning")), strict=True
+            *(table.column(c).to_pylist() for c in ("record", "id", "read_error", "read_warning")),
+            strict=True,
         )
     ]
     core = annotation_table(
-        results, library=library, input_index=table.column("input_index").to_pylist(), ids=table.column("id").to_pylist()
+        results,
+        library=library,
+        input_index=table.column("input_index").to_pylist(),
+        ids=table.column("id").to_pylist(),
     )
     carried = input_fields(table.schema, core=CHUNK_SCHEMA)
-    source = json.loads(meta[META_PREFIX + "source"])
+    source = json.loads(meta["source"])
     metadata = run_metadata(library=library, source=source, settings=settings, version=annotate.__version__)
     out_table = pa.Table.from_arrays(
         [*core.columns, *(table.column(f.name) for f in carried)],
@@ -62,12 +66,23 @@ def annotate_chunk(chunk: str | Path, out: str | Path, *, settings: Settings) ->
     counts = Counter(r.status for r in results)
     log.info(
         "%s: %d records (ok %d, warning %d, error %d) in %.1f s",
-        chunk.name, len(results), counts["ok"], counts["warning"], counts["error"], time.perf_counter() - started,
+        chunk.name,
+        len(results),
+        counts["ok"],
+        counts["warning"],
+        counts["error"],
+        time.perf_counter() - started,
     )
 
 
 def _annotate_record(
-    annotator: Annotator, *, record: str | None, id: str, error: str | None, warning: str | None, settings: Settings
+    annotator: Annotator,
+    *,
+    record: str | None,
+    id: str,
+    error: str | None,
+    warning: str | None,
+    settings: Settings,
 ) -> MoleculeResult:
     """One result per record, whatever happens; an engine exception is logged, not fatal."""
     if error is not None or record is None:
@@ -76,7 +91,9 @@ def _annotate_record(
         result = annotator(record, id=id, settings=settings)
     except Exception as exc:  # the engine promises not to raise; one bad record must not sink the chunk
         log.error("engine raised on record %r:\n%s", id, traceback.format_exc())
-        return MoleculeResult(id=id, status="error", messages=(f"internal error: {type(exc).__name__}: {exc}",))
+        return MoleculeResult(
+            id=id, status="error", messages=(f"internal error: {type(exc).__name__}: {exc}",)
+        )
     if warning is None:
         return result
     status = "warning" if result.status == "ok" else result.status

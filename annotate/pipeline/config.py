@@ -4,18 +4,19 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from pathlib import Path
+from typing import Any
 
 from annotate.io.library import LibrarySpec
 from annotate.settings import Settings
 
 
-def settings_from_config(config: Mapping[str, object]) -> Settings:
+def settings_from_config(config: Mapping[str, Any]) -> Settings:
     """Science settings of a run; keys as in ``workflow/schemas/config.schema.yaml``."""
     rules = config.get("user_rules")
     return Settings(
-        ph=tuple(float(p) for p in config["ph"]),  # type: ignore[attr-defined]
-        min_fraction=float(config["min_fraction"]),  # type: ignore[arg-type]
-        max_species=int(config["max_species"]),  # type: ignore[call-overload]
+        ph=tuple(float(p) for p in config["ph"]),
+        min_fraction=float(config["min_fraction"]),
+        max_species=int(config["max_species"]),
         keep_largest_fragment=bool(config["keep_largest_fragment"]),
         neutralize=bool(config["neutralize"]),
         user_rules=Path(str(rules)) if rules else None,
@@ -33,6 +34,6 @@ def expand_library_shorthand(libraries: object) -> object:
     return {name: {"path": entry} if isinstance(entry, str) else entry for name, entry in libraries.items()}
 
 
-def library_specs(libraries: Mapping[str, object]) -> dict[str, LibrarySpec]:
+def library_specs(libraries: Mapping[str, str | Mapping[str, object]]) -> dict[str, LibrarySpec]:
     """The configured libraries, by name, in config order."""
-    return {name: LibrarySpec.from_config(name, entry) for name, entry in libraries.items()}  # type: ignore[arg-type]
+    return {name: LibrarySpec.from_config(name, entry) for name, entry in libraries.items()}

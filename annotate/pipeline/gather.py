@@ -14,7 +14,7 @@ import pyarrow as pa
 import pyarrow.parquet as pq
 
 from annotate.io.atomic import atomic_path
-from annotate.io.schema import ANNOTATION_SCHEMA, META_PREFIX, input_fields, output_schema
+from annotate.io.schema import ANNOTATION_SCHEMA, META_PREFIX, input_fields, output_schema, read_run_metadata
 from annotate.pipeline.manifest import ChunkEntry, Manifest, read_manifest
 
 log = logging.getLogger(__name__)
@@ -56,10 +56,10 @@ def _check_rows(manifest: Manifest, entry: ChunkEntry, table: pa.Table) -> None:
     expected = pa.array(range(entry.first_index, entry.first_index + entry.records), type=pa.int64())
     found = table.column("input_index").combine_chunks()
     if table.num_rows != entry.records or not found.equals(expected):
+        last = entry.first_index + entry.records - 1
         raise RecordCountError(
             _count_message(manifest, table.num_rows, detail=f"rows in chunk {entry.name}")
-            + f"; chunk {entry.name} should hold records {entry.first_index}..{entry.first_index + entry.records - 1}"
-            " in order"
+            + f"; chunk {entry.name} should hold records {entry.first_index}..{last} in order"
         )
 
 
@@ -79,18 +79,21 @@ def _carried_fields(schemas: list[pa.Schema]) -> list[pa.Field]:
 
 def _shared_metadata(schemas: list[pa.Schema], paths: list[Path]) -> dict[str, str]:
     """Run metadata; chunks annotated with different settings must not be mixed."""
-    found = [{k.decode(): v.decode() for k, v in (s.metadata or {}).items() if k.startswith(META_PREFIX.encode())}
-             for s in schemas]
+    found = [read_run_metadata(s) for s in schemas]
     for meta, path in zip(found[1:], paths[1:], strict=True):
         if meta != found[0]:
             raise ValueError(f"{path} was annotated with other settings than {paths[0]}; rerun the workflow")
-    return found[0] if found else {}
+    return {META_PREFIX + k: v for k, v in found[0].items()}
 
 
 def _conform(table: pa.Table, schema: pa.Schema) -> pa.Table:
     """Give a chunk the merged column set: absent SDF properties become nulls."""
     columns = [
-        table.column(f.name).cast(f.type) if f.name in table.column_names else pa.nulls(table.num_rows, f.type)
+        (
+            table.column(f.name).cast(f.type)
+            if f.name in table.column_names
+            else pa.nulls(table.num_rows, f.type)
+        )
         for f in schema
     ]
     return pa.Table.from_arrays(columns, schema=schema)

@@ -9,5 +9,8 @@ import sys
 def log_progress() -> None:
     """Send the package's progress messages (INFO and up) to stderr, timestamped."""
     logging.basicConfig(
-        level=logging.INFO, stream=sys.stderr, format="%(asctime)s %(levelname)s %(name)s: %(message)s", force=True
+        level=logging.INFO,
+        stream=sys.stderr,
+        format="%(asctime)s %(levelname)s %(name)s: %(message)s",
+        force=True,
     )

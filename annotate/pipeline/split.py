@@ -41,10 +41,16 @@ def split_library(spec: LibrarySpec, out_dir: str | Path, *, chunk_size: int) ->
             entries.append(entry)
             first += chunk.num_rows
         manifest = Manifest(
-            library=spec.name, source=spec.source(), record_kind=kind, chunk_size=chunk_size, chunks=tuple(entries)
+            library=spec.name,
+            source=spec.source(),
+            record_kind=kind,
+            chunk_size=chunk_size,
+            chunks=tuple(entries),
         )
         manifest.write(tmp)
-    log.info("library %s: %d records in %d chunk(s) from %s", spec.name, manifest.records, len(entries), spec.path)
+    log.info(
+        "library %s: %d records in %d chunk(s) from %s", spec.name, manifest.records, len(entries), spec.path
+    )
     return manifest
 
 

@@ -14,15 +14,24 @@ def species_mol(parent: Chem.Mol, sites: Sequence[Site], protonated: Sequence[bo
 
     The parent holds every acid protonated and every base neutral; only sites
     that differ from that are edited. Coordinates, stereo tags and isotopes are
-    kept because atoms are edited in place, never re-created. Raises
+    kept because atoms are edited in place, never re-created; the one atom ever
+    removed is a drawn hydrogen (a C-D label) that leaves as the site's proton. Raises
     ``Chem.rdchem.MolSanitizeException`` if a pattern gives an impossible valence.
     """
     mol = Chem.RWMol(parent)
+    leaving: list[int] = []
     for site, has_proton in zip(sites, protonated, strict=True):
+        atom = mol.GetAtomWithIdx(site.atom)
         if site.kind == "acid" and not has_proton:
-            _shift(mol.GetAtomWithIdx(site.atom), charge=-1, hydrogens=-1)
+            if atom.GetTotalNumHs() == 0:  # its only protons are drawn atoms, e.g. CD3NO2
+                leaving += [n.GetIdx() for n in atom.GetNeighbors() if n.GetAtomicNum() == 1][:1]
+                atom.SetFormalCharge(atom.GetFormalCharge() - 1)
+            else:
+                _shift(atom, charge=-1, hydrogens=-1)
         elif site.kind == "base" and has_proton:
-            _shift(mol.GetAtomWithIdx(site.atom), charge=+1, hydrogens=+1)
+            _shift(atom, charge=+1, hydrogens=+1)
+    for index in sorted(leaving, reverse=True):
+        mol.RemoveAtom(index)
     Chem.SanitizeMol(mol)
     return mol.GetMol()
 
