@@ -16,5 +16,6 @@ rule annotate_chunk:
         runtime=CHUNK_RUNTIME_MIN,
     params:
         settings=SETTINGS,
+        version=IONOTATE_VERSION,
     script:
         "../scripts/annotate_chunk.py"

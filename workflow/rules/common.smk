@@ -3,6 +3,7 @@ import re
 
 from snakemake.utils import validate
 
+import annotate
 from annotate.pipeline import expand_library_shorthand, library_specs, read_manifest
 
 # Snakemake merges --configfile and --config into config/config.yaml key by key,
@@ -30,6 +31,8 @@ SETTINGS = {
     )
 }
 USER_RULES = [config["user_rules"]] if config["user_rules"] else []
+# A new Ionotate version may change results, so it reruns the annotation like a new setting.
+IONOTATE_VERSION = annotate.__version__
 ENV = "../envs/ionotate.yaml"
 
 # Requests of one annotate_chunk job, budgeting 0.3 s and 0.1 MB per record

@@ -1,4 +1,4 @@
-"""Job: annotate one chunk file (annotate.pipeline.annotate_chunk)."""
+"""Job: annotate one chunk file (annotate.pipeline.annotation)."""
 
 import sys
 
@@ -8,5 +8,7 @@ from annotate.pipeline import annotate_chunk, log_progress, settings_from_config
 
 log_progress()
 annotate_chunk(
-    snakemake.input.chunk, snakemake.output.annotated, settings=settings_from_config(snakemake.params.settings)
+    snakemake.input.chunk,
+    snakemake.output.annotated,
+    settings=settings_from_config(snakemake.params.settings),
 )

@@ -6,4 +6,6 @@ sys.stderr = open(snakemake.log[0], "w")  # first, so that even import errors re
 
 from annotate.qc.plots import plot_qc  # noqa: E402
 
-plot_qc(snakemake.input.annotated, charge_plot=snakemake.output.charge_plot, pka_plot=snakemake.output.pka_plot)
+plot_qc(
+    snakemake.input.annotated, charge_plot=snakemake.output.charge_plot, pka_plot=snakemake.output.pka_plot
+)
