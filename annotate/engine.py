@@ -77,7 +77,7 @@ def _sites(mol: Chem.Mol, rules: RuleSet) -> tuple[Site, ...]:
     index = SubstituentIndex(mol, rules.substituents)
     return tuple(
         estimate_site(mol, m, table=rules.substituents, index=index, parent_terms=rules.parent_terms[m.rule.name])
-        for m in find_sites(mol, rules.groups)
+        for m in find_sites(mol, rules.groups, rules.contexts)
     )
 
 
@@ -142,7 +142,7 @@ def _with_interactions(sites: tuple[Site, ...], model: MicrostateModel) -> tuple
 
 def _renumbered(mol: Chem.Mol, sites: tuple[Site, ...]) -> tuple[Site, ...]:
     """Atom indices as in the molecule RDKit parses from ``parent_smiles`` (call after MolToSmiles)."""
-    order = mol.GetPropsAsDict(includePrivate=True, includeComputed=True)["_smilesAtomOutputOrder"]
+    order = mol.GetProp("_smilesAtomOutputOrder").strip("[]").rstrip(",").split(",")
     position = {int(original): k for k, original in enumerate(order)}
     return tuple(replace(s, atom=position[s.atom]) for s in sites)
 

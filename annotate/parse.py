@@ -17,6 +17,9 @@ def mol_from_smiles(text: str | None) -> tuple[Chem.Mol | None, str | None]:
     stray = _stray_character(text)
     if stray:
         return None, stray
+    mol = Chem.MolFromSmiles(text)  # the common case: parsed and sanitized in one call
+    if mol is not None:
+        return mol, None
     mol = Chem.MolFromSmiles(text, sanitize=False)
     if mol is None:
         return None, "unparsable SMILES"
@@ -102,6 +105,11 @@ def _is_bond_line(line: str) -> bool:
 
 
 def _sanitized(mol: Chem.Mol) -> tuple[Chem.Mol | None, str | None]:
+    """Sanitize once; only a failure pays for the diagnosis."""
+    probe = Chem.Mol(mol)
+    if Chem.SanitizeMol(probe, catchErrors=True) == Chem.SanitizeFlags.SANITIZE_NONE:
+        Chem.AssignStereochemistry(probe, cleanIt=True, force=True)
+        return probe, None
     problems = Chem.DetectChemistryProblems(mol)
     if problems:
         kinds = sorted({_describe(p.GetType()) for p in problems})
@@ -110,8 +118,7 @@ def _sanitized(mol: Chem.Mol) -> tuple[Chem.Mol | None, str | None]:
         Chem.SanitizeMol(mol)
     except Exception as exc:  # RDKit raises several exception types here
         return None, f"sanitization failed: {exc}"
-    Chem.AssignStereochemistry(mol, cleanIt=True, force=True)
-    return mol, None
+    return None, "sanitization failed"
 
 
 def _describe(kind: str) -> str:

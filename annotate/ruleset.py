@@ -10,7 +10,7 @@ from rdkit import Chem
 
 from annotate.pka.contributions import Contribution
 from annotate.pka.substituents import SubstituentTable, load_substituents
-from annotate.sites.rules import GroupRule, load_group_rules
+from annotate.sites.rules import GroupRule, load_contexts, load_group_rules
 from annotate.species.interactions import InteractionTable, load_interactions
 from annotate.tables import RuleFileError
 
@@ -18,6 +18,7 @@ from annotate.tables import RuleFileError
 @dataclass(frozen=True, slots=True)
 class RuleSet:
     groups: tuple[GroupRule, ...]
+    contexts: dict[str, Chem.Mol]
     substituents: SubstituentTable
     interactions: InteractionTable
     #: per rule name, the substituent contributions of its own parent compound
@@ -30,14 +31,24 @@ def load_ruleset(user_rules: Path | None = None) -> RuleSet:
     from annotate.pka.estimate import substituent_contributions  # noqa: PLC0415 (cycle)
 
     groups = load_group_rules(user_rules)
+    contexts = load_contexts()
+    unknown = sorted({r.context for r in groups if r.context and r.context not in contexts})
+    if unknown:
+        raise RuleFileError(f"group rules name unknown context(s): {', '.join(unknown)} (see contexts.tsv)")
     substituents = load_substituents()
     parent_terms: dict[str, tuple[Contribution, ...]] = {}
     for rule in groups:
         parent = Chem.MolFromSmiles(rule.parent)
-        matches = parent.GetSubstructMatches(rule.pattern)
+        matches = [m for m in parent.GetSubstructMatches(rule.pattern) if _in_context(parent, m[rule.site_index], rule, contexts)]
         if not matches:
             raise RuleFileError(f"group rule {rule.name!r}: parent {rule.parent} does not match its own SMARTS")
         parent_terms[rule.name] = tuple(
             substituent_contributions(parent, rule, matches[0], substituents)
         )
-    return RuleSet(groups, substituents, load_interactions(), parent_terms)
+    return RuleSet(groups, contexts, substituents, load_interactions(), parent_terms)
+
+
+def _in_context(mol: Chem.Mol, atom: int, rule: GroupRule, contexts: dict[str, Chem.Mol]) -> bool:
+    if not rule.context:
+        return True
+    return any(m[0] == atom for m in mol.GetSubstructMatches(contexts[rule.context], uniquify=False))

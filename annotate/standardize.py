@@ -34,12 +34,13 @@ def parent_of(mol: Chem.Mol, *, keep_largest_fragment: bool = True, neutralize: 
     """
     messages: list[str] = []
     warning = False
-    if any(a.GetAtomicNum() == 0 for a in mol.GetAtoms()):
+    scan = _scan(mol)
+    if scan.dummy:
         raise RecordError("dummy atom '*' (attachment point or query atom): not a complete molecule")
     if mol.GetNumHeavyAtoms() == 0:
         raise RecordError("no heavy atoms (hydrogen only)")
-    fragments = Chem.GetMolFrags(mol, asMols=True, sanitizeFrags=True)
-    if len(fragments) > 1:
+    if len(Chem.GetMolFrags(mol)) > 1:
+        fragments = Chem.GetMolFrags(mol, asMols=True, sanitizeFrags=True)
         if not keep_largest_fragment:
             raise RecordError(f"{len(fragments)} fragments and fragment removal is switched off")
         ranked = sorted(fragments, key=_fragment_rank, reverse=True)
@@ -47,14 +48,14 @@ def parent_of(mol: Chem.Mol, *, keep_largest_fragment: bool = True, neutralize: 
         names = ", ".join(sorted(Chem.MolToSmiles(f) for f in dropped))
         messages.append(f"removed {len(dropped)} fragment(s): {names}")
         mol = kept
+        scan = _scan(mol)
     else:
         mol = Chem.Mol(mol)
-    unsupported = sorted({a.GetSymbol() for a in mol.GetAtoms() if a.GetAtomicNum() not in ORGANIC})
-    if unsupported:
-        raise RecordError(f"unsupported element(s) in the parent: {', '.join(unsupported)}")
-    if any(a.GetNumRadicalElectrons() for a in mol.GetAtoms()):
+    if scan.unsupported:
+        raise RecordError(f"unsupported element(s) in the parent: {', '.join(scan.unsupported)}")
+    if scan.radical:
         raise RecordError("radical: an atom has unpaired electrons")
-    if any(a.GetAtomicNum() == 1 for a in mol.GetAtoms()):
+    if scan.hydrogens:
         exchangeable = [a for a in mol.GetAtoms() if _exchangeable_isotope(a)]
         for atom in exchangeable:
             atom.SetIsotope(0)  # mol is a copy or a new fragment here, never the input
@@ -63,7 +64,7 @@ def parent_of(mol: Chem.Mol, *, keep_largest_fragment: bool = True, neutralize: 
                 f"replaced {len(exchangeable)} hydrogen isotope(s) on N/O/S by H: they exchange with water"
             )
         mol = Chem.RemoveHs(mol, sanitize=True)
-    if neutralize and any(a.GetFormalCharge() for a in mol.GetAtoms()):
+    if neutralize and scan.charged:
         before = sum(1 for a in mol.GetAtoms() if a.GetFormalCharge())
         uncharged = _UNCHARGER.uncharge(mol)
         if Chem.SanitizeMol(uncharged, catchErrors=True) == Chem.SanitizeFlags.SANITIZE_NONE:
@@ -81,6 +82,30 @@ def parent_of(mol: Chem.Mol, *, keep_largest_fragment: bool = True, neutralize: 
 
 
 _UNCHARGER = rdMolStandardize.Uncharger(canonicalOrder=True)
+
+
+@dataclass(frozen=True, slots=True)
+class _Scan:
+    dummy: bool
+    hydrogens: bool
+    charged: bool
+    radical: bool
+    unsupported: tuple[str, ...]
+
+
+def _scan(mol: Chem.Mol) -> _Scan:
+    """One pass over the atoms for every check, since atom iteration is the slow part."""
+    dummy = hydrogens = charged = radical = False
+    unsupported: set[str] = set()
+    for atom in mol.GetAtoms():
+        z = atom.GetAtomicNum()
+        dummy |= z == 0
+        hydrogens |= z == 1
+        charged |= atom.GetFormalCharge() != 0
+        radical |= atom.GetNumRadicalElectrons() != 0
+        if z and z not in ORGANIC:
+            unsupported.add(atom.GetSymbol())
+    return _Scan(dummy, hydrogens, charged, radical, tuple(sorted(unsupported)))
 
 
 def _exchangeable_isotope(atom: Chem.Atom) -> bool:

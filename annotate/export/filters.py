@@ -25,7 +25,7 @@ from annotate.io.schema import META_PREFIX
 IonClass = Literal["neutral", "acid", "base", "zwitterion", "permanent"]
 ION_CLASSES: frozenset[str] = frozenset({"neutral", "acid", "base", "zwitterion", "permanent"})
 #: two pH values closer than this are the same configured pH (they come from one config)
-_PH_TOLERANCE = 1e-6
+PH_TOLERANCE = 1e-6
 _BATCH_ROWS = 65_536
 
 
@@ -95,7 +95,7 @@ def _state_at(ph: float) -> pl.Expr:
     """The ph_states entry at ``ph`` as a struct (null on error rows or an absent pH)."""
     return (
         pl.col("ph_states")
-        .list.eval(pl.element().filter((pl.element().struct.field("ph") - ph).abs() < _PH_TOLERANCE))
+        .list.eval(pl.element().filter((pl.element().struct.field("ph") - ph).abs() < PH_TOLERANCE))
         .list.first()
     )
 
@@ -196,5 +196,5 @@ def _require_phs(source: Path, specs: Sequence[FilterSpec]) -> None:
     if not present:
         return  # no annotated rows: every filter keeps nothing, which is correct
     for spec in specs:
-        if not any(abs(spec.ph - p) < _PH_TOLERANCE for p in present):
+        if not any(abs(spec.ph - p) < PH_TOLERANCE for p in present):
             raise ValueError(f"filter {spec.name!r}: pH {spec.ph} was not computed; available: {sorted(present)}")

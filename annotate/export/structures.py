@@ -45,7 +45,8 @@ def docking_records(
 
     ``which="dominant"`` gives the most abundant species per pH; ``"all"`` every
     species the annotation keeps (above ``settings.min_fraction``). At most
-    ``max_per_molecule`` records in total, in pH order then rank. 3D input keeps
+    ``max_per_molecule`` records per pH, in pH order then rank, so that each
+    pH's export gets the same cap whatever other pH values are configured. 3D input keeps
     its coordinates (``embed_3d`` is ignored); otherwise 2D input coordinates
     are kept or a depiction drawn, or with ``embed_3d`` one seeded conformer is
     generated. A record that cannot be built gives ``[]`` (the reason is logged)
@@ -77,10 +78,8 @@ def _records(
     properties = _input_properties(mol)
     records: list[Chem.Mol] = []
     for state in result.ph_states:
-        chosen = state.species[:1] if which == "dominant" else state.species
+        chosen = state.species[:1] if which == "dominant" else state.species[:limit]
         for rank, species in enumerate(chosen, start=1):
-            if len(records) == limit:
-                return records
             structure = _placed(species_mol(parent, sites, species.protonated), has_3d=has_3d, embed_3d=embed_3d, seed=seed)
             _label(structure, id=id, ph=state.ph, rank=rank, species=species, result=result, properties=properties)
             records.append(structure)
@@ -136,29 +135,44 @@ def _label(
     result: MoleculeResult,
     properties: dict[str, str],
 ) -> None:
-    """Input properties first, so our own names win a clash and always mean one thing."""
+    """Input properties first, so our own names win a clash and always mean one thing.
+
+    Numbers are stored as their shortest exact text (``7.4``, not the 17 digits RDKit
+    would write for a double); ``GetDoubleProp`` still reads them back exactly.
+    """
     for key, value in properties.items():
         mol.SetProp(key, value)
     mol.SetProp("_Name", id)
     mol.SetProp("ionotate_id", id)
-    mol.SetDoubleProp("ionotate_ph", ph)
+    mol.SetProp("ionotate_ph", repr(float(ph)))
     mol.SetIntProp("ionotate_rank", rank)
     mol.SetIntProp("ionotate_charge", species.charge)
-    mol.SetDoubleProp("ionotate_fraction", species.fraction)
+    mol.SetProp("ionotate_fraction", repr(float(species.fraction)))
     mol.SetProp("ionotate_macro_pka", " ".join(f"{v:.2f}" for v in sorted(result.macro_pka)))
+
+
+def sdf_text(mol: Chem.Mol) -> str:
+    """One SD record (molblock, properties, ``$$$$``); chunk files store it so joining them is copying."""
+    return Chem.SDWriter.GetText(mol)
+
+
+def smiles_line(*, smiles: str, id: str, ph: float, charge: int, fraction: float) -> str:
+    """One row of the SMILES file in :data:`SMILES_HEADER` order, newline included."""
+    return "\t".join((smiles, id, f"{ph:g}", str(charge), f"{fraction:.6g}")) + "\n"
+
+
+def record_smiles(mol: Chem.Mol) -> str:
+    """The species as canonical SMILES, hydrogens implicit again."""
+    return Chem.MolToSmiles(Chem.RemoveHs(mol))
 
 
 def write_sdf(records: Iterable[Chem.Mol], path: str | os.PathLike[str]) -> int:
     """Write records to an SD file atomically; returns how many were written."""
     count = 0
-    with atomic_path(path) as tmp:
-        writer = Chem.SDWriter(str(tmp))
-        try:
-            for mol in records:
-                writer.write(mol)
-                count += 1
-        finally:
-            writer.close()
+    with atomic_path(path) as tmp, open(tmp, "w", encoding="utf-8", newline="\n") as out:
+        for mol in records:
+            out.write(sdf_text(mol))
+            count += 1
     return count
 
 
@@ -168,14 +182,14 @@ def write_smiles(records: Iterable[Chem.Mol], path: str | os.PathLike[str]) -> i
     with atomic_path(path) as tmp, open(tmp, "w", encoding="utf-8", newline="\n") as out:
         out.write("\t".join(SMILES_HEADER) + "\n")
         for mol in records:
-            smiles = Chem.MolToSmiles(Chem.RemoveHs(mol))
-            row = (
-                smiles,
-                mol.GetProp("ionotate_id"),
-                f"{mol.GetDoubleProp('ionotate_ph'):g}",
-                str(mol.GetIntProp("ionotate_charge")),
-                f"{mol.GetDoubleProp('ionotate_fraction'):.6g}",
+            out.write(
+                smiles_line(
+                    smiles=record_smiles(mol),
+                    id=mol.GetProp("ionotate_id"),
+                    ph=mol.GetDoubleProp("ionotate_ph"),
+                    charge=mol.GetIntProp("ionotate_charge"),
+                    fraction=mol.GetDoubleProp("ionotate_fraction"),
+                )
             )
-            out.write("\t".join(row) + "\n")
             count += 1
     return count

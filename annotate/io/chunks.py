@@ -125,7 +125,7 @@ def _structure_text(column: pa.ChunkedArray, *, kind: RecordKind, name: str) -> 
     """The structure text of each row, or why there is none (missing, truncated, not text)."""
     n = len(column)
     label = "SMILES" if kind == "smiles" else "molblock"
-    if not _is_text(column.type):
+    if not is_text_type(column.type):
         reason = f"{label} column {name!r} holds {column.type} values, not text"
         return (
             pl.Series("record", [None] * n, dtype=pl.String),
@@ -147,10 +147,10 @@ def _structure_text(column: pa.ChunkedArray, *, kind: RecordKind, name: str) -> 
     return frame["record"], frame["read_error"]
 
 
-def _is_text(kind: pa.DataType) -> bool:
+def is_text_type(kind: pa.DataType) -> bool:
     """Any Arrow spelling of a text column, dictionary-encoded (categorical) included."""
     if pa.types.is_dictionary(kind):
-        return _is_text(kind.value_type)
+        return is_text_type(kind.value_type)
     return pa.types.is_string(kind) or pa.types.is_large_string(kind) or pa.types.is_string_view(kind)
 
 

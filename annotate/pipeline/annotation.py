@@ -24,6 +24,7 @@ from annotate.engine import annotate_molblock, annotate_smiles
 from annotate.io.atomic import atomic_path
 from annotate.io.schema import CHUNK_SCHEMA, annotation_table, input_fields, read_run_metadata, run_metadata
 from annotate.results import MoleculeResult
+from annotate.ruleset import load_ruleset
 from annotate.settings import Settings
 
 log = logging.getLogger(__name__)
@@ -36,6 +37,8 @@ def annotate_chunk(chunk: str | Path, out: str | Path, *, settings: Settings) ->
     """Annotate ``chunk`` (a split chunk file) into ``out`` (contract columns + input columns)."""
     rdBase.LogToPythonStderr()  # RDKit's own messages belong in this job's log
     started = time.perf_counter()
+    # A bad rule file must fail the job, not turn every record into an "internal error" row.
+    load_ruleset(settings.user_rules)
     chunk = Path(chunk)
     table = pq.read_table(chunk)
     meta = read_run_metadata(table.schema)

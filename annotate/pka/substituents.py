@@ -31,6 +31,8 @@ class Substituent:
     source: str
     pattern: Chem.Mol | None = field(repr=False, compare=False)
     elements: frozenset[int] = field(repr=False, compare=False, default=frozenset())
+    #: element of the attachment atom (0 = any), to skip rows that cannot match a root
+    root_element: int = field(repr=False, compare=False, default=0)
 
     def sigma(self, position: str, *, minus: bool) -> float:
         """Hammett sigma at 'meta' or 'para' (ortho is handled by the caller)."""
@@ -68,6 +70,7 @@ def parse_substituent_row(row: Row) -> Substituent:
         source=row.text_field("source"),
         pattern=pattern,
         elements=required_elements(pattern) if pattern is not None else frozenset(),
+        root_element=pattern.GetAtomWithIdx(0).GetAtomicNum() if pattern is not None else 0,
     )
 
 
@@ -93,30 +96,37 @@ def load_substituents() -> SubstituentTable:
 class SubstituentIndex:
     """Which substituent row describes the group hanging from a given atom.
 
-    Built lazily per molecule: each pattern is matched once over the whole
-    molecule, then lookups are dictionary reads.
+    Lazy per molecule: a row's pattern is matched over the molecule only the
+    first time a lookup reaches that row with a root of the row's element, so
+    a typical lookup at a carbon never evaluates the sulfur or halogen rows.
     """
 
     def __init__(self, mol: Chem.Mol, table: SubstituentTable) -> None:
         self._mol = mol
         self._table = table
-        self._by_root: dict[int, list[tuple[int, frozenset[int]]]] | None = None
+        self._present: set[int] | None = None
+        self._matches: dict[int, dict[int, list[frozenset[int]]]] = {}
 
-    def _build(self) -> dict[int, list[tuple[int, frozenset[int]]]]:
-        present = {a.GetAtomicNum() for a in self._mol.GetAtoms()}
-        by_root: dict[int, list[tuple[int, frozenset[int]]]] = {}
-        for number, row in enumerate(self._table.rows):
-            if not row.elements <= present:
-                continue
-            for match in self._mol.GetSubstructMatches(row.pattern, uniquify=False, maxMatches=10000):
-                by_root.setdefault(match[0], []).append((number, frozenset(match)))
-        return by_root
+    def _row_matches(self, number: int) -> dict[int, list[frozenset[int]]]:
+        cached = self._matches.get(number)
+        if cached is None:
+            row = self._table.rows[number]
+            cached = {}
+            if self._present is None:
+                self._present = {a.GetAtomicNum() for a in self._mol.GetAtoms()}
+            if row.elements <= self._present:
+                for match in self._mol.GetSubstructMatches(row.pattern, uniquify=False, maxMatches=10000):
+                    cached.setdefault(match[0], []).append(frozenset(match))
+            self._matches[number] = cached
+        return cached
 
     def lookup(self, root: int, *, excluded: frozenset[int] | set[int]) -> Substituent | None:
         """First row matching at ``root`` that uses none of the ``excluded`` atoms."""
-        if self._by_root is None:
-            self._by_root = self._build()
-        for number, atoms in self._by_root.get(root, ()):
-            if atoms.isdisjoint(excluded):
-                return self._table.rows[number]
+        element = self._mol.GetAtomWithIdx(root).GetAtomicNum()
+        for number, row in enumerate(self._table.rows):
+            if row.root_element not in (0, element):
+                continue
+            for atoms in self._row_matches(number).get(root, ()):
+                if atoms.isdisjoint(excluded):
+                    return row
         return None

@@ -15,6 +15,7 @@ import annotate
 from annotate.io.atomic import atomic_path
 from annotate.io.schema import NOTICE, read_run_metadata
 from annotate.qc import tables
+from annotate.qc.filters import read_filter_counts
 
 TABLES: dict[str, Callable[[pl.LazyFrame], pl.DataFrame]] = {
     "counts": tables.counts,
@@ -29,8 +30,13 @@ OUTPUTS = (*TABLES, *JSON_OUTPUTS)
 _PACKAGES = ("rdkit", "polars", "pyarrow", "matplotlib", "snakemake")
 
 
-def write_qc(annotated: str | Path, *, outputs: Mapping[str, str | Path]) -> None:
-    """Write every QC output named in :data:`OUTPUTS` to the path ``outputs`` gives it."""
+def write_qc(
+    annotated: str | Path, *, outputs: Mapping[str, str | Path], filters: str | Path | None = None
+) -> None:
+    """Write every QC output named in :data:`OUTPUTS` to the path ``outputs`` gives it.
+
+    ``filters`` is the filter QC table (annotate.qc.filters); its counts join the summary.
+    """
     missing, extra = set(OUTPUTS) - set(outputs), set(outputs) - set(OUTPUTS)
     if missing or extra:
         raise ValueError(f"QC outputs: missing {sorted(missing)}, unexpected {sorted(extra)}")
@@ -40,18 +46,21 @@ def write_qc(annotated: str | Path, *, outputs: Mapping[str, str | Path]) -> Non
         with atomic_path(outputs[name]) as tmp:
             table.write_csv(tmp, separator="\t", float_precision=4)
     run = read_run_metadata(pq.read_schema(annotated))
-    _write_json(outputs["summary"], summary(results, library=run.get("library", "")))
+    kept = read_filter_counts(filters) if filters is not None else None
+    _write_json(outputs["summary"], summary(results, library=run.get("library", ""), filters=kept))
     _write_json(outputs["settings_and_versions"], settings_and_versions(run))
 
 
-def summary(results: Mapping[str, pl.DataFrame], *, library: str) -> dict[str, object]:
+def summary(
+    results: Mapping[str, pl.DataFrame], *, library: str, filters: pl.DataFrame | None = None
+) -> dict[str, object]:
     """The headline numbers of a library in one small JSON-ready dict."""
     counts = results["counts"].row(0, named=True)
     charges: dict[str, dict[str, int]] = {}
     for row in results["charge_by_ph"].iter_rows(named=True):
         charges.setdefault(f"{row['ph']:g}", {})[str(row["charge"])] = row["n"]
     sites = results["sites_per_molecule"]
-    return {
+    body: dict[str, object] = {
         "library": library,
         "notice": NOTICE,
         "records": counts,
@@ -63,6 +72,9 @@ def summary(results: Mapping[str, pl.DataFrame], *, library: str) -> dict[str, o
             "groups_seen": results["group_frequency"]["group"].n_unique(),
         },
     }
+    if filters is not None:
+        body["filters"] = filters.select("filter", "ph", "kept", "annotated", "structures").to_dicts()
+    return body
 
 
 def settings_and_versions(run: Mapping[str, str]) -> dict[str, object]:

@@ -20,18 +20,42 @@ class SiteMatch:
     match: tuple[int, ...]
 
 
-def find_sites(mol: Chem.Mol, rules: tuple[GroupRule, ...]) -> list[SiteMatch]:
-    """Sites in atom order. An atom already holding a site of the same kind is skipped."""
-    present = {a.GetAtomicNum() for a in mol.GetAtoms()}
+def find_sites(
+    mol: Chem.Mol, rules: tuple[GroupRule, ...], contexts: dict[str, Chem.Mol]
+) -> list[SiteMatch]:
+    """Sites in atom order. An atom already holding a site of the same kind is skipped.
+
+    Rules are skipped cheaply when the molecule has no atom fit to be their site
+    (element, aromaticity, a hydrogen for acids); named contexts are matched at
+    most once per molecule.
+    """
+    context_atoms: dict[str, set[int]] = {}
+    present: set[int] = set()
+    atom_kinds: set[tuple[int, bool | None, bool]] = set()
+    for index in range(mol.GetNumAtoms()):
+        atom = mol.GetAtomWithIdx(index)
+        z, aromatic, has_h = atom.GetAtomicNum(), atom.GetIsAromatic(), atom.GetTotalNumHs() > 0
+        present.add(z)
+        atom_kinds.update({(z, aromatic, has_h), (z, None, has_h), (z, aromatic, False), (z, None, False)})
     taken: set[tuple[int, str]] = set()
     found: list[SiteMatch] = []
     for rule in rules:
+        if rule.gate[0] and rule.gate not in atom_kinds:
+            continue
         if not rule.elements <= present:
             continue
+        allowed = None
+        if rule.context:
+            allowed = context_atoms.get(rule.context)
+            if allowed is None:
+                matches = mol.GetSubstructMatches(contexts[rule.context], uniquify=False, maxMatches=100000)
+                allowed = context_atoms[rule.context] = {m[0] for m in matches}
+            if not allowed:
+                continue
         merged: list[frozenset[int]] = []
         for match in mol.GetSubstructMatches(rule.pattern, uniquify=True):
             atom = match[rule.site_index]
-            if (atom, rule.kind) in taken:
+            if (atom, rule.kind) in taken or (allowed is not None and atom not in allowed):
                 continue
             group = frozenset(match)
             if rule.merge_overlaps and any(group & g for g in merged):

@@ -18,6 +18,24 @@ def species_mol(parent: Chem.Mol, sites: Sequence[Site], protonated: Sequence[bo
     removed is a drawn hydrogen (a C-D label) that leaves as the site's proton. Raises
     ``Chem.rdchem.MolSanitizeException`` if a pattern gives an impossible valence.
     """
+    mol = _edited(parent, sites, protonated)
+    Chem.SanitizeMol(mol)
+    return mol.GetMol()
+
+
+def species_smiles(parent: Chem.Mol, sites: Sequence[Site], protonated: Sequence[bool]) -> str:
+    """Canonical SMILES of a species, without the full sanitization a structure needs.
+
+    Aromaticity and ring perception carry over from the parent; only valences of
+    the edited atoms change, so a property-cache update (which still rejects an
+    impossible valence) is all the SMILES writer needs. Several times faster.
+    """
+    mol = _edited(parent, sites, protonated)
+    mol.UpdatePropertyCache(strict=True)
+    return Chem.MolToSmiles(mol)
+
+
+def _edited(parent: Chem.Mol, sites: Sequence[Site], protonated: Sequence[bool]) -> Chem.RWMol:
     mol = Chem.RWMol(parent)
     leaving: list[int] = []
     for site, has_proton in zip(sites, protonated, strict=True):
@@ -32,8 +50,7 @@ def species_mol(parent: Chem.Mol, sites: Sequence[Site], protonated: Sequence[bo
             _shift(atom, charge=+1, hydrogens=+1)
     for index in sorted(leaving, reverse=True):
         mol.RemoveAtom(index)
-    Chem.SanitizeMol(mol)
-    return mol.GetMol()
+    return mol
 
 
 def _shift(atom: Chem.Atom, *, charge: int, hydrogens: int) -> None:
@@ -42,6 +59,3 @@ def _shift(atom: Chem.Atom, *, charge: int, hydrogens: int) -> None:
     atom.SetNoImplicit(True)
     atom.SetNumExplicitHs(max(0, total_h + hydrogens))
 
-
-def species_smiles(parent: Chem.Mol, sites: Sequence[Site], protonated: Sequence[bool]) -> str:
-    return Chem.MolToSmiles(species_mol(parent, sites, protonated))
