@@ -25,8 +25,6 @@ from annotate.species.microstates import MicrostateModel, build_model
 from annotate.standardize import RecordError, parent_of
 
 DEFAULT = Settings()
-#: microstates below min_fraction * this are not turned into structures
-_STRUCTURE_FLOOR = 0.1
 #: most microstates turned into structures per pH, unless max_species asks for more
 #: (a fixed 64 once cut off 1% of the population when every species was requested)
 _STRUCTURE_BUDGET = 64
@@ -112,7 +110,7 @@ def _annotate_parent(
             f"approximation: {len(sites)} sites exceed the exact limit; "
             f"{model.truncated} sites near the pH window fixed in their dominant form"
         )
-    cache: dict[bytes, str] = {}
+    cache: dict = {}
     states = tuple(_ph_state(mol, sites, model, ph, settings, cache) for ph in settings.ph)
     status = "warning" if warning else "ok"
     return MoleculeResult(
@@ -153,24 +151,41 @@ def _ph_state(
     model: MicrostateModel,
     ph: float,
     settings: Settings,
-    cache: dict[bytes, str],
+    cache: dict,
 ) -> PhState:
+    """Species at one pH: microstates merged when they are the same molecule.
+
+    Microstates that differ only by which of several symmetry-equivalent sites
+    holds the proton are one species (succinate monoanion). They are grouped by
+    the symmetry classes of their protonated sites first, so structures are built
+    only for groups that are kept; a group of two or more is checked by SMILES.
+    """
     fractions = model.fractions(ph)
     charge_mean = float((fractions * model.charges).sum())
     order = np.argsort(-fractions, kind="stable")
-    floor = settings.min_fraction * _STRUCTURE_FLOOR
-    merged: dict[str, list] = {}
+    ranks = cache.get("ranks")
+    if ranks is None:
+        ranks = cache["ranks"] = _site_symmetry(mol, sites)
+    negligible = settings.min_fraction * 1e-3
+    groups: dict[tuple, list[int]] = {}
     for k in order[: max(_STRUCTURE_BUDGET, settings.max_species)]:
-        f = float(fractions[k])
-        if f < floor and merged:
+        if fractions[k] < negligible and groups:
             break
         pattern = model.protonated[k]
-        key = pattern.tobytes()
-        if key not in cache:
-            cache[key] = species_smiles(mol, sites, tuple(bool(x) for x in pattern))
-        smi = cache[key]
-        entry = merged.setdefault(smi, [0.0, int(model.charges[k]), tuple(bool(x) for x in pattern)])
-        entry[0] += f
+        key = tuple(sorted(zip(ranks, pattern.tolist())))
+        groups.setdefault(key, []).append(int(k))
+    merged: dict[str, list] = {}
+    for members in sorted(groups.values(), key=lambda ks: -sum(fractions[k] for k in ks)):
+        total = sum(float(fractions[k]) for k in members)
+        if merged and total < settings.min_fraction:
+            break
+        for k in members:
+            pattern = model.protonated[k]
+            smi = cache.get(pattern.tobytes())
+            if smi is None:
+                smi = cache[pattern.tobytes()] = species_smiles(mol, sites, tuple(pattern.tolist()))
+            entry = merged.setdefault(smi, [0.0, int(model.charges[k]), tuple(pattern.tolist())])
+            entry[0] += float(fractions[k])
     ranked = sorted(merged.items(), key=lambda kv: -kv[1][0])
     kept = [
         Species(smi, charge, round(f, 6), pattern)
@@ -180,22 +195,32 @@ def _ph_state(
     return PhState(ph=ph, charge_mean=round(charge_mean, 4), species=tuple(kept))
 
 
+def _site_symmetry(mol: Chem.Mol, sites: tuple[Site, ...]) -> list[int]:
+    """Symmetry class of each site atom (equal for atoms a symmetry maps onto each other)."""
+    if len(sites) < 2:
+        return [0] * len(sites)
+    classes = Chem.CanonicalRankAtoms(mol, breakTies=False)
+    return [classes[s.atom] for s in sites]
+
+
 def _site_distances(mol: Chem.Mol, atoms: list[int]) -> tuple[np.ndarray, np.ndarray]:
-    """Bond counts between site atoms, and the other way round a shared ring (0 if none)."""
+    """Bond counts between site atoms, and the other way round a shared ring (0 if none).
+
+    A shortest-path search per pair is far cheaper than the full distance matrix
+    for the handful of sites a molecule has.
+    """
     n = len(atoms)
     dist = np.zeros((n, n), dtype=int)
     second = np.zeros((n, n), dtype=int)
     if n < 2:
         return dist, second
-    matrix = Chem.GetDistanceMatrix(mol)
     rings = mol.GetRingInfo().AtomRings()
-    for i, a in enumerate(atoms):
-        for j, b in enumerate(atoms):
-            if i == j:
-                continue
-            d = int(matrix[a, b])
-            dist[i, j] = d
+    for i in range(n):
+        for j in range(i + 1, n):
+            a, b = atoms[i], atoms[j]
+            d = len(Chem.GetShortestPath(mol, a, b)) - 1 if a != b else 0
+            dist[i, j] = dist[j, i] = d
             shared = [len(r) for r in rings if a in r and b in r]
             if shared:
-                second[i, j] = min(shared) - d
+                second[i, j] = second[j, i] = min(shared) - d
     return dist, second

@@ -40,9 +40,9 @@ def check_run(
 ) -> None:
     """Raise :class:`RunCheckError` naming each unusable library or rule file.
 
-    ``chunk_dirs`` are the split outputs per library: a gzipped input is read to
-    its end (the only way to find a truncated one) only while its split is still
-    to do, so that reruns and dry runs of a large library stay quick.
+    ``chunk_dirs`` are the split outputs per library: a gzipped or Parquet input
+    is read to its end (the only way to find a truncated gzip or a damaged page)
+    only while its split is still to do, so that reruns and dry runs stay quick.
     """
     problems = [
         problem
@@ -67,6 +67,8 @@ def library_problem(spec: LibrarySpec, *, read_whole: bool) -> str | None:
         fmt, gzipped = spec.resolved_format, spec.gzipped
         if gzipped:
             return _gzip_problem(spec.path, where=where, read_whole=read_whole)
+        if fmt == "parquet" and read_whole and (problem := _parquet_data_problem(spec.path, where=where)):
+            return problem
         if fmt in ("csv", "tsv", "parquet"):
             return _table_problem(spec, where=where)
         with open(spec.path, "rb") as handle:
@@ -120,6 +122,17 @@ def _gzip_problem(path: Path, *, where: str, read_whole: bool) -> str | None:
             return f"{where} is a corrupt gzip file ({exc})"
         if not inflater.eof:
             return f"{where} is a truncated gzip file (its compressed data ends early)"
+    return None
+
+
+def _parquet_data_problem(path: Path, *, where: str) -> str | None:
+    """Decode every page once: a damaged page is only found by reading it."""
+    try:
+        with pq.ParquetFile(path) as source:
+            for _ in source.iter_batches(batch_size=65_536):
+                pass
+    except (OSError, pa.ArrowException) as exc:
+        return f"{where} is a corrupt Parquet file ({exc})"
     return None
 
 

@@ -15,6 +15,7 @@ they take inside the window and reported with their own microscopic pKa.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 
@@ -96,7 +97,7 @@ def build_model(
     mid = (min(ph_values) + max(ph_values)) / 2.0
     fixed_protonated = pka > mid  # the form a fixed site takes inside the window
     m = len(active)
-    states = ((np.arange(2**m)[:, None] >> np.arange(m)[None, :]) & 1).astype(bool)
+    states = _states(m)
     protonated = np.zeros((2**m, n), dtype=bool)
     protonated[:, active] = states
     protonated[:, fixed] = fixed_protonated[fixed]
@@ -117,6 +118,14 @@ def build_model(
         w_like=w_like,
         w_opp=w_opp,
     )
+
+
+@lru_cache(maxsize=MAX_EXACT_SITES + 1)
+def _states(m: int) -> np.ndarray:
+    """All 2**m protonation patterns of m sites (read-only, shared between molecules)."""
+    states = ((np.arange(2**m)[:, None] >> np.arange(m)[None, :]) & 1).astype(bool)
+    states.setflags(write=False)
+    return states
 
 
 def _split_active(pka: np.ndarray, ph_values: tuple[float, ...]) -> tuple[np.ndarray, np.ndarray, int]:
