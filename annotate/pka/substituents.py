@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import cached_property
 
 from rdkit import Chem
 
@@ -33,6 +34,25 @@ class Substituent:
     elements: frozenset[int] = field(repr=False, compare=False, default=frozenset())
     #: element of the attachment atom (0 = any), to skip rows that cannot match a root
     root_element: int = field(repr=False, compare=False, default=0)
+    #: elements the attachment atom must be bonded to (with repeats), same purpose
+    root_neighbours: tuple[int, ...] = field(repr=False, compare=False, default=())
+    #: the attachment atom's query, None when recursive (Atom.Match cannot judge those)
+    root_query: Chem.Atom | None = field(repr=False, compare=False, default=None)
+
+    def may_match(self, atom: Chem.Atom, neighbours: list[int]) -> bool:
+        """Necessary conditions for a match rooted at ``atom``: checked in Python, so a
+        root that cannot match never costs a substructure search."""
+        if self.root_element not in (0, atom.GetAtomicNum()):
+            return False
+        if self.root_query is not None and not self.root_query.Match(atom):
+            return False
+        pool = list(neighbours)
+        for z in self.root_neighbours:
+            if z not in pool:
+                return False
+            pool.remove(z)
+        return True
+
 
     def sigma(self, position: str, *, minus: bool) -> float:
         """Hammett sigma at 'meta' or 'para' (ortho is handled by the caller)."""
@@ -71,16 +91,38 @@ def parse_substituent_row(row: Row) -> Substituent:
         pattern=pattern,
         elements=required_elements(pattern) if pattern is not None else frozenset(),
         root_element=pattern.GetAtomWithIdx(0).GetAtomicNum() if pattern is not None else 0,
+        root_neighbours=_root_neighbours(pattern),
+        root_query=None if pattern is None or "$(" in smarts.split("]")[0] else pattern.GetAtomWithIdx(0),
     )
 
 
-@dataclass(frozen=True, slots=True)
+def _root_neighbours(pattern: Chem.Mol | None) -> tuple[int, ...]:
+    if pattern is None:
+        return ()
+    return tuple(n.GetAtomicNum() for n in pattern.GetAtomWithIdx(0).GetNeighbors() if n.GetAtomicNum() > 0)
+
+
+@dataclass(frozen=True)
 class SubstituentTable:
     """All substituent rows in match order, plus the two ring-member rows."""
 
     rows: tuple[Substituent, ...]
     ring_aza: Substituent
     ring_fusion: Substituent
+
+    @cached_property
+    def _by_element(self) -> dict[int, tuple[int, ...]]:
+        elements = {r.root_element for r in self.rows} - {0}
+        return {
+            z: tuple(i for i, r in enumerate(self.rows) if r.root_element in (0, z)) for z in elements
+        }
+
+    def rows_for(self, element: int) -> tuple[int, ...]:
+        """Row numbers, in table order, that can start at an atom of this element."""
+        found = self._by_element.get(element)
+        if found is None:
+            found = tuple(i for i, r in enumerate(self.rows) if r.root_element == 0)
+        return found
 
 
 def load_substituents() -> SubstituentTable:
@@ -106,6 +148,7 @@ class SubstituentIndex:
         self._table = table
         self._present: set[int] | None = None
         self._matches: dict[int, dict[int, list[frozenset[int]]]] = {}
+        self._answers: dict[tuple[int, frozenset[int]], Substituent | None] = {}
 
     def _row_matches(self, number: int) -> dict[int, list[frozenset[int]]]:
         cached = self._matches.get(number)
@@ -113,7 +156,8 @@ class SubstituentIndex:
             row = self._table.rows[number]
             cached = {}
             if self._present is None:
-                self._present = {a.GetAtomicNum() for a in self._mol.GetAtoms()}
+                mol = self._mol
+                self._present = {mol.GetAtomWithIdx(i).GetAtomicNum() for i in range(mol.GetNumAtoms())}
             if row.elements <= self._present:
                 for match in self._mol.GetSubstructMatches(row.pattern, uniquify=False, maxMatches=10000):
                     cached.setdefault(match[0], []).append(frozenset(match))
@@ -122,11 +166,18 @@ class SubstituentIndex:
 
     def lookup(self, root: int, *, excluded: frozenset[int] | set[int]) -> Substituent | None:
         """First row matching at ``root`` that uses none of the ``excluded`` atoms."""
-        element = self._mol.GetAtomWithIdx(root).GetAtomicNum()
-        for number, row in enumerate(self._table.rows):
-            if row.root_element not in (0, element):
+        atom = self._mol.GetAtomWithIdx(root)
+        key = (root, frozenset(excluded))
+        if key in self._answers:
+            return self._answers[key]
+        answer = None
+        neighbours = [n.GetAtomicNum() for n in atom.GetNeighbors() if n.GetIdx() not in excluded]
+        for number in self._table.rows_for(atom.GetAtomicNum()):
+            row = self._table.rows[number]
+            if not row.may_match(atom, neighbours):
                 continue
-            for atoms in self._row_matches(number).get(root, ()):
-                if atoms.isdisjoint(excluded):
-                    return row
-        return None
+            if any(atoms.isdisjoint(excluded) for atoms in self._row_matches(number).get(root, ())):
+                answer = row
+                break
+        self._answers[key] = answer
+        return answer
