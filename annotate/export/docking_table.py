@@ -76,9 +76,7 @@ def docking_table(records: Iterable[tuple[int, Chem.Mol]]) -> pa.Table:
     return pa.Table.from_pylist(rows, schema=DOCKING_SCHEMA)
 
 
-def write_structure_files(
-    chunk_files: Sequence[str | os.PathLike[str]], files: Sequence[StructureFile]
-) -> list[int]:
+def write_structure_files(chunk_files: Sequence[str | os.PathLike[str]], files: Sequence[StructureFile]) -> list[int]:
     """Join chunk tables into ``files`` in one streaming pass; returns the records written to each.
 
     Every file is written atomically: all of them appear, or none does.
@@ -124,4 +122,3 @@ def _write_rows(table: pa.Table, out: TextIO, *, fmt: StructureFormat) -> None:
 def kept_positions(parquet: str | os.PathLike[str]) -> frozenset[int]:
     """Input positions of the rows of an annotated (or filtered) Parquet file."""
     return frozenset(pq.read_table(parquet, columns=["input_index"]).column("input_index").to_pylist())
-

@@ -20,6 +20,7 @@ from rdkit.Chem import AllChem
 from annotate.engine import annotate_mol, annotate_parent
 from annotate.io.atomic import atomic_path
 from annotate.results import MoleculeResult, Site, Species
+from annotate.ruleset import load_ruleset
 from annotate.settings import Settings
 from annotate.species.build import species_mol
 from annotate.standardize import parent_of
@@ -56,6 +57,7 @@ def docking_records(
         raise ValueError(f"which must be 'dominant' or 'all', not {which!r}")
     if max_per_molecule < 1:
         raise ValueError(f"max_per_molecule must be at least 1, not {max_per_molecule}")
+    load_ruleset(settings.user_rules)  # a bad rule file stops the export, not a record
     if mol is None:
         return []
     try:

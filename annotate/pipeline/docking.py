@@ -37,13 +37,16 @@ _BATCH_RECORDS = 256
 
 @dataclass(frozen=True, slots=True)
 class DockingOptions:
-    """The ``docking`` section of the config; defaults match the schema."""
+    """How records are built, from the ``docking`` section of the config; defaults match the schema.
+
+    The section's ``formats`` is left out: it picks the files the workflow joins,
+    not the records, so changing it must not rebuild every chunk.
+    """
 
     species: Which = "dominant"
     max_per_molecule: int = 4
     embed_3d: bool = False
     seed: int = 1
-    formats: tuple[str, ...] = ("sdf", "smi")
 
     @classmethod
     def from_config(cls, section: Mapping[str, Any]) -> DockingOptions:
@@ -52,7 +55,6 @@ class DockingOptions:
             max_per_molecule=int(section["max_per_molecule"]),
             embed_3d=bool(section["embed_3d"]),
             seed=int(section["seed"]),
-            formats=tuple(section["formats"]),
         )
 
 
@@ -143,4 +145,3 @@ def export_docking_structures(
     for target, count in zip(files, counts, strict=True):
         log.info("%s: %d structures at pH %g", target.path, count, target.ph)
     return {str(f.path): n for f, n in zip(files, counts, strict=True)}
-

@@ -71,13 +71,13 @@ def filter_library(
         for spec in specs
     ]
     structures = dict(zip([s.name for s in specs], write_structure_files(docking_chunks, files), strict=True))
-    annotated_rows = (
-        pl.scan_parquet(annotated).filter(pl.col("status") != "error").select(pl.len()).collect().item()
-    )
+    annotated_rows = pl.scan_parquet(annotated).filter(pl.col("status") != "error").select(pl.len()).collect().item()
     write_filter_counts(filter_counts(specs, kept=kept, structures=structures, annotated=annotated_rows), qc_table)
     for spec in specs:
         name = spec.name
-        log.info("filter %s: kept %d of %d molecules, %d structures", name, kept[name], annotated_rows, structures[name])
+        log.info(
+            "filter %s: kept %d of %d molecules, %d structures", name, kept[name], annotated_rows, structures[name]
+        )
         if structures[name] < kept[name]:
             log.warning("filter %s: fewer structures than kept molecules; see the export_chunk_structures logs", name)
     return kept

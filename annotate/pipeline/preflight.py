@@ -49,8 +49,8 @@ def check_run(
         for name, spec in libraries.items()
         if (problem := library_problem(spec, read_whole=_split_pending(spec.path, chunk_dirs[name])))
     ]
-    if user_rules:
-        problems += [p for p in [rule_file_problem(Path(user_rules))] if p]
+    if rules_problem := rule_file_problem(Path(user_rules) if user_rules else None):
+        problems.append(rules_problem)
     if problems:
         listed = "\n".join(f"  - {p}" for p in problems)
         raise RunCheckError(f"Ionotate cannot start this run; nothing was done:\n{listed}")
@@ -67,8 +67,10 @@ def library_problem(spec: LibrarySpec, *, read_whole: bool) -> str | None:
         fmt, gzipped = spec.resolved_format, spec.gzipped
         if gzipped:
             return _gzip_problem(spec.path, where=where, read_whole=read_whole)
-        if fmt == "parquet" and read_whole and (problem := _parquet_data_problem(spec.path, where=where)):
-            return problem
+        if fmt == "parquet":
+            pq.ParquetFile(spec.path).close()  # the footer: a truncated file has none
+            if read_whole and (problem := _parquet_data_problem(spec.path, where=where)):
+                return problem
         if fmt in ("csv", "tsv", "parquet"):
             return _table_problem(spec, where=where)
         with open(spec.path, "rb") as handle:
@@ -83,10 +85,16 @@ def library_problem(spec: LibrarySpec, *, read_whole: bool) -> str | None:
     return None
 
 
-def rule_file_problem(path: Path) -> str | None:
-    """Why the user rule file cannot be used (file, line and problem), or None."""
+def rule_file_problem(user_rules: Path | None) -> str | None:
+    """Why the rule tables cannot be used, or None; the packaged ones first, to blame the right file."""
     try:
-        load_ruleset(path)
+        load_ruleset(None)
+    except RuleFileError as exc:
+        return f"packaged rule tables (a broken installation): {exc}"
+    if user_rules is None:
+        return None
+    try:
+        load_ruleset(user_rules)
     except RuleFileError as exc:
         return f"user_rules: {exc}"
     return None

@@ -14,7 +14,10 @@ from __future__ import annotations
 
 from rdkit import Chem
 
+from dataclasses import replace
+
 from annotate.pka.contributions import TERM_RELATIVE_SD, UNKNOWN_SD, Contribution
+from annotate.pka.inductive import group_sigma_star
 from annotate.pka.substituents import Substituent, SubstituentIndex, SubstituentTable
 from annotate.sites.rules import GroupRule
 
@@ -69,8 +72,34 @@ def hammett_contributions(
                 label = f"unlisted substituent {nbr.GetSymbol()} {position}"
                 out.append(Contribution(label, 0.0, UNKNOWN_SD))
                 continue
+            if hit.sigma_star is None and hit.root_element == 6:
+                hit = _substituted_alkyl(mol, s, p, group, index, hit)
             out.append(_term(rule, hit, hit.name, position, distance, size))
     return out
+
+
+#: Hammett sigma of CH2X groups rises with sigma*(CH2X): (sigma_m + 0.07) / sigma*
+#: is 0.17-0.19 for CH2Cl, CH2CN, CH2OH and CF3 (Hansch, Leo & Taft 1991 and the
+#: Taft sigma* table; from memory), so an alkyl group carrying polar substituents
+#: gets sigma = sigma(alkyl) + 0.17 sigma*(group) instead of plain alkyl values.
+SIGMA_PER_SIGMA_STAR = 0.17
+
+
+def _substituted_alkyl(
+    mol: Chem.Mol, root: int, ring_atom: int, group: frozenset[int], index: SubstituentIndex, alkyl: Substituent
+) -> Substituent:
+    star = group_sigma_star(mol, root, ring_atom, group, index)
+    if abs(star) < 0.05:
+        return alkyl
+    shift = SIGMA_PER_SIGMA_STAR * star
+    return replace(
+        alkyl,
+        name=f"substituted alkyl (sigma* {star:.2f})",
+        sigma_m=alkyl.sigma_m + shift,
+        sigma_p=alkyl.sigma_p + shift,
+        sigma_p_minus=alkyl.sigma_p_minus + shift,
+        sigma_i=alkyl.sigma_i + shift,
+    )
 
 
 def _is_pyridine_like(atom: Chem.Atom) -> bool:

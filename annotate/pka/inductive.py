@@ -44,6 +44,15 @@ def taft_contributions(
     return out
 
 
+def group_sigma_star(
+    mol: Chem.Mol, root: int, came_from: int, group: frozenset[int], index: SubstituentIndex
+) -> float:
+    """sigma* of the group rooted at ``root`` (seen from ``came_from``), by the same walk."""
+    out: list[Contribution] = []
+    _walk(mol, root, came_from, group, -1.0, index, 1, 1.0, frozenset({came_from}), out)
+    return sum(c.value for c in out)
+
+
 def _walk(
     mol: Chem.Mol,
     root: int,
