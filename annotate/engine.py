@@ -75,7 +75,7 @@ def _sites(mol: Chem.Mol, rules: RuleSet) -> tuple[Site, ...]:
     index = SubstituentIndex(mol, rules.substituents)
     return tuple(
         estimate_site(mol, m, table=rules.substituents, index=index, parent_terms=rules.parent_terms[m.rule.name])
-        for m in find_sites(mol, rules.groups, rules.contexts)
+        for m in find_sites(mol, rules.matcher)
     )
 
 

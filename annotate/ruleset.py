@@ -10,6 +10,7 @@ from rdkit import Chem
 
 from annotate.pka.contributions import Contribution
 from annotate.pka.substituents import SubstituentTable, load_substituents
+from annotate.sites.perceive import RuleMatcher
 from annotate.sites.rules import GroupRule, load_contexts, load_group_rules
 from annotate.species.interactions import InteractionTable, load_interactions
 from annotate.tables import RuleFileError
@@ -18,7 +19,7 @@ from annotate.tables import RuleFileError
 @dataclass(frozen=True, slots=True)
 class RuleSet:
     groups: tuple[GroupRule, ...]
-    contexts: dict[str, Chem.Mol]
+    matcher: RuleMatcher
     substituents: SubstituentTable
     interactions: InteractionTable
     #: per rule name, the substituent contributions of its own parent compound
@@ -45,7 +46,7 @@ def load_ruleset(user_rules: Path | None = None) -> RuleSet:
         parent_terms[rule.name] = tuple(
             substituent_contributions(parent, rule, matches[0], substituents)
         )
-    return RuleSet(groups, contexts, substituents, load_interactions(), parent_terms)
+    return RuleSet(groups, RuleMatcher(groups, contexts), substituents, load_interactions(), parent_terms)
 
 
 def _in_context(mol: Chem.Mol, atom: int, rule: GroupRule, contexts: dict[str, Chem.Mol]) -> bool:

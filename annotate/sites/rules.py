@@ -37,8 +37,6 @@ class GroupRule:
     site_index: int = field(repr=False, compare=False)
     anchor_index: int = field(repr=False, compare=False)
     elements: frozenset[int] = field(repr=False, compare=False)
-    #: (element, aromatic or None for either, needs an H) the site atom must show
-    gate: tuple[int, bool | None, bool] = field(repr=False, compare=False, default=(0, None, False))
 
     def __repr__(self) -> str:
         return f"GroupRule({self.name!r}, {self.kind}, {self.smarts!r}, pKa {self.pka})"
@@ -107,19 +105,8 @@ def parse_group_row(row: Row) -> GroupRule:
         site_index=site,
         anchor_index=site if anchor is None else anchor,
         elements=required_elements(pattern),
-        gate=_site_gate(pattern, site, kind),
     )
 
-
-def _site_gate(pattern: Chem.Mol, site: int, kind: str) -> tuple[int, bool | None, bool]:
-    """Cheap facts about the site atom, so a molecule without such an atom skips the row.
-
-    Aromaticity is read from the atom's SMARTS (lower case = aromatic); an acid
-    must carry a hydrogen to lose.
-    """
-    text = Chem.MolFragmentToSmarts(pattern, atomsToUse=[site]).lstrip("[")
-    aromatic = None if not text[:1].isalpha() else text[:1].islower()
-    return pattern.GetAtomWithIdx(site).GetAtomicNum(), aromatic, kind == "acid"
 
 
 def parse_context_row(row: Row) -> tuple[str, Chem.Mol]:
