@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
 from pathlib import Path
 from typing import Any
@@ -37,3 +38,18 @@ def expand_library_shorthand(libraries: object) -> object:
 def library_specs(libraries: Mapping[str, str | Mapping[str, object]]) -> dict[str, LibrarySpec]:
     """The configured libraries, by name, in config order."""
     return {name: LibrarySpec.from_config(name, entry) for name, entry in libraries.items()}
+
+
+def nan_settings(config: object, *, at: str = "config") -> list[str]:
+    """Where the config holds NaN (``.nan`` in YAML), e.g. ``config['ph'][0]``.
+
+    The schema cannot refuse NaN: every comparison with it is false, so it passes
+    every minimum and maximum, and a run would then compute nothing but NaN.
+    """
+    if isinstance(config, float) and math.isnan(config):
+        return [at]
+    if isinstance(config, Mapping):
+        return [p for key, value in config.items() for p in nan_settings(value, at=f"{at}[{key!r}]")]
+    if isinstance(config, list | tuple):
+        return [p for i, value in enumerate(config) for p in nan_settings(value, at=f"{at}[{i}]")]
+    return []

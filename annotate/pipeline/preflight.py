@@ -11,6 +11,7 @@ from __future__ import annotations
 import zlib
 from collections.abc import Mapping
 from pathlib import Path
+from typing import Any
 
 import polars as pl
 import pyarrow as pa
@@ -20,6 +21,7 @@ from annotate.io.chunks import is_text_type
 from annotate.io.library import LibrarySpec, find_column, structure_column
 from annotate.io.schema import carried_names
 from annotate.io.tables import table_columns, table_schema
+from annotate.pipeline.config import nan_settings
 from annotate.pipeline.manifest import MANIFEST_NAME
 from annotate.ruleset import load_ruleset
 from annotate.tables import RuleFileError
@@ -35,20 +37,23 @@ class RunCheckError(ValueError):
 def check_run(
     libraries: Mapping[str, LibrarySpec],
     *,
-    user_rules: str | None,
+    config: Mapping[str, Any],
     chunk_dirs: Mapping[str, Path],
 ) -> None:
-    """Raise :class:`RunCheckError` naming each unusable library or rule file.
+    """Raise :class:`RunCheckError` naming each unusable setting, library or rule file.
 
-    ``chunk_dirs`` are the split outputs per library: a gzipped or Parquet input
-    is read to its end (the only way to find a truncated gzip or a damaged page)
-    only while its split is still to do, so that reruns and dry runs stay quick.
+    ``config`` has passed the schema already. ``chunk_dirs`` are the split outputs
+    per library: a gzipped or Parquet input is read to its end (the only way to
+    find a truncated gzip or a damaged page) only while its split is still to do,
+    so that reruns and dry runs stay quick.
     """
-    problems = [
+    problems = [f"{at} is NaN; give a number" for at in nan_settings(config)]
+    problems += [
         problem
         for name, spec in libraries.items()
         if (problem := library_problem(spec, read_whole=_split_pending(spec.path, chunk_dirs[name])))
     ]
+    user_rules = config.get("user_rules")
     if rules_problem := rule_file_problem(Path(user_rules) if user_rules else None):
         problems.append(rules_problem)
     if problems:
@@ -57,7 +62,7 @@ def check_run(
 
 
 def library_problem(spec: LibrarySpec, *, read_whole: bool) -> str | None:
-    """Why ``spec`` cannot be read, or None; ``read_whole`` also decompresses a gzip to its end."""
+    """Why ``spec`` cannot be read, or None; ``read_whole`` also reads a gzip or Parquet file to its end."""
     where = f"library {spec.name!r}: {str(spec.path)!r}"
     if not spec.path.exists():
         return f"{where} does not exist"
