@@ -1,5 +1,6 @@
 # Ionotate: annotate compound libraries with ionizable sites, estimated pKa and
-# dominant protonation states. Per library: split -> annotate chunks -> gather -> QC.
+# dominant protonation states. Per library: split -> annotate chunks -> gather -> QC,
+# and per chunk docking structures -> one SD/SMILES file per pH -> charge filters.
 from snakemake.utils import min_version
 
 min_version("9.0")
@@ -16,6 +17,7 @@ include: "workflow/rules/split.smk"
 include: "workflow/rules/annotate.smk"
 include: "workflow/rules/gather.smk"
 include: "workflow/rules/qc.smk"
+include: "workflow/rules/export.smk"
 
 
 rule all:

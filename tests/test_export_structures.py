@@ -11,6 +11,7 @@ from rdkit.Chem import AllChem
 
 from annotate import Settings, annotate_smiles
 from annotate.export.structures import SMILES_HEADER, docking_records, write_sdf, write_smiles
+from annotate.tables import RuleFileError
 
 PH74 = Settings(ph=(7.4,))
 L_ALANINE = "N[C@@H](C)C(=O)O"
@@ -122,7 +123,10 @@ def test_all_species_follow_annotation_and_cap(tmp_path: Path) -> None:
     ]
     assert got == wanted
     capped = _records(Chem.MolFromSmiles("NCC(=O)O"), settings=settings, which="all", max_per_molecule=1)
-    assert len(capped) == 1 and capped[0].GetIntProp("ionotate_rank") == 1
+    assert [(m.GetDoubleProp("ionotate_ph"), m.GetIntProp("ionotate_rank")) for m in capped] == [(1.0, 1), (7.4, 1)]
+    per_ph = {ph: sum(1 for w in wanted if w[0] == ph) for ph in (1.0, 7.4)}
+    two = _records(Chem.MolFromSmiles("NCC(=O)O"), settings=settings, which="all", max_per_molecule=2)
+    assert len(two) == sum(min(n, 2) for n in per_ph.values()), "the cap applies per pH, not per molecule"
     dominant = _records(Chem.MolFromSmiles("NCC(=O)O"), settings=settings, which="dominant", max_per_molecule=10)
     assert [m.GetDoubleProp("ionotate_ph") for m in dominant] == [1.0, 7.4]
 
@@ -161,3 +165,24 @@ def test_interrupted_write_leaves_no_file(tmp_path: Path) -> None:
         with pytest.raises(RuntimeError):
             writer(broken(), tmp_path / name)
         assert list(tmp_path.iterdir()) == []
+
+
+def test_bad_rule_file_stops_the_export_instead_of_emptying_it(tmp_path: Path) -> None:
+    rules = tmp_path / "mine.tsv"
+    rules.write_text("name\tkind\tsmarts\n")  # header lacks the required columns
+    with pytest.raises(RuleFileError, match="header lacks"):
+        _records(Chem.MolFromSmiles("CCN"), settings=Settings(user_rules=rules))
+
+
+def test_line_breaks_tabs_and_terminators_in_input_text_cannot_break_the_files(tmp_path: Path) -> None:
+    source = Chem.MolFromSmiles("CCN")
+    source.SetProp("note", "a\n$$$$\n\nb")
+    source.SetProp("odd\tname<x>", "v")
+    records = _records(source, id="two\nline\tid") + _records(Chem.MolFromSmiles("CCO"), id="next")
+    (first, second) = _sdf_round_trip(records, tmp_path / "awkward.sdf")
+    assert first.GetProp("_Name") == first.GetProp("ionotate_id") == "two line id"
+    assert first.GetProp("note") == "a\n $$$$\nb" and first.GetProp("odd name_x_") == "v"
+    assert second.GetProp("_Name") == "next"
+    write_smiles(records, tmp_path / "awkward.smi")
+    rows = [line.split("\t") for line in (tmp_path / "awkward.smi").read_text().splitlines()[1:]]
+    assert [len(row) for row in rows] == [5, 5] and [row[1] for row in rows] == ["two line id", "next"]

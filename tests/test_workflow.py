@@ -232,6 +232,7 @@ def test_qc_outputs_exist_for_every_library(workdir: Path, first_run: str) -> No
         "settings_and_versions.json",
         "charge_by_ph.png",
         "pka_by_group.png",
+        "filters.tsv",
     ]
     for library in LIBRARIES:
         qc = workdir / "out" / library / "qc"

@@ -269,18 +269,13 @@ def finished_outputs(root: Path, library: str) -> set[str]:
 
 
 @pytest.mark.slow
-@pytest.mark.xfail(
-    strict=True,
-    raises=AssertionError,
-    reason="defect in annotate/export (not fixed here): ids and property values are written into "
-    "SD titles, SD data items and tab-separated lines unescaped, so a line break, a tab or a "
-    "'$$$$' line from a table input corrupts the docking files",
-)
 def test_docking_files_survive_line_breaks_tabs_and_terminators_in_input(bad_records: Path) -> None:
+    """Line breaks and tabs in an id become spaces in the structure files (annotate/export)."""
     docking = bad_records / "out" / "pq_ids" / "docking"
     lines = (docking / "ph7.4.smi").read_text().splitlines()[1:]
     assert all(len(line.split("\t")) == 5 for line in lines)
-    assert [line.split("\t")[1] for line in lines].count(AWKWARD_ID) == 1
+    flattened = " ".join(AWKWARD_ID.split())
+    assert [line.split("\t")[1] for line in lines].count(flattened) == 1
     sdf = list(Chem.SDMolSupplier(str(docking / "ph7.4.sdf"), sanitize=False))
     assert len(sdf) == len(lines) and None not in sdf
 

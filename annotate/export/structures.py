@@ -127,6 +127,24 @@ def _input_properties(mol: Chem.Mol) -> dict[str, str]:
     return {k: str(v) for k, v in mol.GetPropsAsDict(includePrivate=False, includeComputed=False).items()}
 
 
+def one_line(text: str) -> str:
+    """Text for a place where a line break or tab would end the field (SD title, SD field
+    name, SMILES-file column): such characters become spaces."""
+    return " ".join(text.splitlines()).replace("\t", " ")
+
+
+def _sd_name(name: str) -> str:
+    """An SD field name sits between angle brackets on one header line."""
+    return one_line(name).replace("<", "_").replace(">", "_")
+
+
+def _sd_value(text: str) -> str:
+    """An SD data item ends at a blank line and a record at a ``$$$$`` line, so a value
+    keeps its lines but loses blank ones, and a ``$$$$`` line gets a leading space."""
+    lines = [line for line in text.splitlines() if line.strip()]
+    return "\n".join(" " + line if line.startswith("$$$$") else line for line in lines)
+
+
 def _label(
     mol: Chem.Mol,
     *,
@@ -140,12 +158,14 @@ def _label(
     """Input properties first, so our own names win a clash and always mean one thing.
 
     Numbers are stored as their shortest exact text (``7.4``, not the 17 digits RDKit
-    would write for a double); ``GetDoubleProp`` still reads them back exactly.
+    would write for a double); ``GetDoubleProp`` still reads them back exactly. Ids
+    and input properties are made safe for the SD and SMILES files (line breaks,
+    tabs, ``$$$$`` lines); the annotated Parquet keeps them exactly as read.
     """
     for key, value in properties.items():
-        mol.SetProp(key, value)
-    mol.SetProp("_Name", id)
-    mol.SetProp("ionotate_id", id)
+        mol.SetProp(_sd_name(key), _sd_value(value))
+    mol.SetProp("_Name", one_line(id))
+    mol.SetProp("ionotate_id", one_line(id))
     mol.SetProp("ionotate_ph", repr(float(ph)))
     mol.SetIntProp("ionotate_rank", rank)
     mol.SetIntProp("ionotate_charge", species.charge)

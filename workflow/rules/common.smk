@@ -1,10 +1,15 @@
 # Config validation and the helpers the rules use; no rules here.
 import re
+from dataclasses import asdict
+from pathlib import Path
 
 from snakemake.utils import validate
 
 import annotate
 from annotate.pipeline import expand_library_shorthand, library_specs, read_manifest
+from annotate.pipeline.docking import DockingOptions, ph_label
+from annotate.pipeline.filtering import filter_specs, ph_values_with_filters
+from annotate.pipeline.preflight import check_run
 
 # Snakemake merges --configfile and --config into config/config.yaml key by key,
 # which would add the demo libraries to the user's own. Libraries given on the
@@ -15,6 +20,9 @@ if "libraries" in _command_line:
 if "libraries" in config:
     config["libraries"] = expand_library_shorthand(config["libraries"])
 validate(config, "../schemas/config.schema.yaml")
+FILTERS = filter_specs(config["filters"])
+# A filter reads the state at its pH, so that pH is computed too (documented in the schema).
+config["ph"] = ph_values_with_filters(config["ph"], FILTERS)
 
 LIBRARIES = library_specs(config["libraries"])
 OUTDIR = config["outdir"].rstrip("/")
@@ -31,6 +39,13 @@ SETTINGS = {
     )
 }
 USER_RULES = [config["user_rules"]] if config["user_rules"] else []
+# Refuse a run that cannot work (NaN setting, missing or unreadable input, unknown
+# column, bad rule file) now, naming every problem, not in a job's log hours later.
+check_run(
+    LIBRARIES,
+    config=config,
+    chunk_dirs={name: Path(f"{OUTDIR}/{name}/chunks/input") for name in LIBRARIES},
+)
 # A new Ionotate version may change results, so it reruns the annotation like a new setting.
 IONOTATE_VERSION = annotate.__version__
 ENV = "../envs/ionotate.yaml"
@@ -39,6 +54,24 @@ ENV = "../envs/ionotate.yaml"
 # on top of start-up; override per rule with `set-resources` in a profile.
 CHUNK_MEM_MB = 1000 + CHUNK_SIZE // 10
 CHUNK_RUNTIME_MIN = 10 + CHUNK_SIZE // 200
+
+DOCKING = DockingOptions.from_config(config["docking"])
+# One docking file per pH and format; the export job gets the pH of each file in this order.
+DOCKING_FORMATS = config["docking"]["formats"]
+DOCKING_TARGETS = [(ph, ext) for ph in config["ph"] for ext in DOCKING_FORMATS]
+DOCKING_FILES = [
+    f"{OUTDIR}/{{library}}/docking/ph{ph_label(ph)}.{ext}"
+    for ph, ext in DOCKING_TARGETS
+]
+FILTER_FILES = {
+    ext: [f"{OUTDIR}/{{library}}/filters/{spec.name}.{ext}" for spec in FILTERS]
+    for ext in ("parquet", "sdf")
+}
+# Requests of one export_chunk_structures job: 0.05 s per record and pH, 0.5 s
+# when embedding in 3D, on top of start-up.
+EXPORT_SECONDS_PER_RECORD = 0.5 if DOCKING.embed_3d else 0.05
+EXPORT_SECONDS = CHUNK_SIZE * len(config["ph"]) * EXPORT_SECONDS_PER_RECORD
+EXPORT_RUNTIME_MIN = 10 + int(EXPORT_SECONDS / 60)
 
 
 wildcard_constraints:
@@ -58,19 +91,37 @@ def library_spec(wildcards):
 
 def annotated_chunks(wildcards):
     """Annotated chunk files of a library, in input order, once the split has run."""
+    return chunk_files(wildcards, stage="annotated")
+
+
+def docking_chunks(wildcards):
+    """Docking tables of a library's chunks, in input order, once the split has run."""
+    return chunk_files(wildcards, stage="docking")
+
+
+def filter_docking_chunks(wildcards):
+    """Docking tables the filters copy their SD records from; none without filters."""
+    return docking_chunks(wildcards) if FILTERS else []
+
+
+def chunk_files(wildcards, *, stage):
+    """Per-chunk files of one stage, named after the split's chunks."""
     chunk_dir = checkpoints.split_library.get(library=wildcards.library).output.chunks
     return expand(
-        f"{OUTDIR}/{{library}}/chunks/annotated/{{chunk}}.parquet",
+        f"{OUTDIR}/{{library}}/chunks/{stage}/{{chunk}}.parquet",
         library=wildcards.library,
         chunk=read_manifest(chunk_dir).chunk_names,
     )
 
 
 def final_outputs():
-    """The final outputs: each library's annotated Parquet, QC tables and plots."""
+    """The final outputs: each library's annotated Parquet, QC tables and plots,
+    docking structures and filtered subsets."""
     finals = [
         *rules.gather_annotations.output,
         *rules.summarize_qc.output,
         *rules.plot_qc.output,
+        *DOCKING_FILES,
+        *rules.filter_library.output,
     ]
     return expand(finals, library=LIBRARIES)

@@ -6,4 +6,4 @@ sys.stderr = open(snakemake.log[0], "w")  # first, so that even import errors re
 
 from annotate.qc.report import write_qc  # noqa: E402
 
-write_qc(snakemake.input.annotated, outputs=dict(snakemake.output.items()))
+write_qc(snakemake.input.annotated, outputs=dict(snakemake.output.items()), filters=snakemake.input.filters)

@@ -1,0 +1,150 @@
+"""filter_library on a small split-annotate-export library, against hand-written expectations.
+
+Literature pKa values are from memory (textbook values), used only to reason
+about which side of the filter pH each centre sits (common practice: a centre
+is charged when the pH is past its pKa).
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import polars as pl
+import pytest
+import yaml
+from rdkit import Chem
+
+from annotate.export.filters import ION_CLASSES, FilterSpec
+from annotate.io.library import LibrarySpec
+from annotate.pipeline import annotate_chunk, gather_annotations, split_library
+from annotate.pipeline.docking import DockingOptions, export_chunk_structures
+from annotate.pipeline.filtering import filter_library, filter_specs, ph_values_with_filters
+from annotate.qc.filters import FILTER_COUNTS_SCHEMA, read_filter_counts
+from annotate.qc.report import OUTPUTS, write_qc
+from annotate.settings import Settings
+
+ROOT = Path(__file__).resolve().parents[1]
+SCHEMA = yaml.safe_load((ROOT / "workflow" / "schemas" / "config.schema.yaml").read_text())
+LIBRARY = """CC(=O)O acetic
+CCN ethylamine
+NCC(=O)O glycine
+c1ccccc1 benzene
+C[N+](C)(C)C.[Cl-] tetramethylammonium
+OC(=O)CCC(=O)O succinic
+NCCCCCCN hexanediamine
+C1CC broken
+"""
+FILTERS = [
+    # the shipped default: net charge -1..1 at pH 7.4
+    *SCHEMA["properties"]["filters"]["default"],
+    {"name": "anions_at_7.4", "ph": 7.4, "charge_max": -1},
+    {"name": "permanent", "ph": 7.4, "classes": ["permanent"]},
+    {"name": "neutral_at_2", "ph": 2.0, "classes": ["neutral"]},
+]
+EXPECTED = {
+    "charge_-1_to_1_at_7.4": {
+        "acetic",  # pKa 4.76: carboxylate, -1
+        "ethylamine",  # pKaH 10.7: ammonium, +1
+        "glycine",  # zwitterion, net 0
+        "benzene",  # nothing to ionize
+        "tetramethylammonium",  # quaternary N, +1
+        # succinic acid (pKa 4.2 and 5.6) is -2 and hexanediamine (pKaH about 10-11) +2: both out
+    },
+    "anions_at_7.4": {"acetic", "succinic"},
+    "permanent": {"tetramethylammonium"},
+    # pH 2 is below both acids' pKa: they stay protonated; glycine (COOH pKa 2.3) is still mostly +1
+    "neutral_at_2": {"acetic", "succinic", "benzene"},
+}
+
+
+@pytest.fixture(scope="module")
+def library(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Path]:
+    """Annotated Parquet and docking chunk of the library, made the way the workflow makes them."""
+    folder = tmp_path_factory.mktemp("lib")
+    (folder / "lib.smi").write_text(LIBRARY)
+    split_library(LibrarySpec(name="lib", path=folder / "lib.smi"), folder / "chunks", chunk_size=100)
+    chunk = folder / "chunks" / "000000.parquet"
+    settings = Settings(ph=tuple(ph_values_with_filters([7.4], filter_specs(FILTERS))))
+    annotate_chunk(chunk, folder / "annotated" / "000000.parquet", settings=settings)
+    gather_annotations(folder / "chunks", [folder / "annotated" / "000000.parquet"], folder / "annotated.parquet")
+    export_chunk_structures(chunk, folder / "docking.parquet", settings=settings, options=DockingOptions())
+    return {"annotated": folder / "annotated.parquet", "docking": folder / "docking.parquet"}
+
+
+def test_kept_molecules_match_hand_expectations(library: dict[str, Path], tmp_path: Path) -> None:
+    specs = filter_specs(FILTERS)
+    kept = filter_library(
+        library["annotated"], [library["docking"]], specs=specs, outdir=tmp_path, qc_table=tmp_path / "filters.tsv"
+    )
+    assert kept == {name: len(ids) for name, ids in EXPECTED.items()}
+    for name, ids in EXPECTED.items():
+        assert set(pl.read_parquet(tmp_path / f"{name}.parquet")["id"]) == ids, name
+        sdf = list(Chem.SDMolSupplier(str(tmp_path / f"{name}.sdf")))
+        assert {m.GetProp("_Name") for m in sdf} == ids, name
+        ph = next(s.ph for s in specs if s.name == name)
+        assert all(float(m.GetProp("ionotate_ph")) == ph for m in sdf)
+        assert all(Chem.GetFormalCharge(m) == int(m.GetProp("ionotate_charge")) for m in sdf)
+    qc = read_filter_counts(tmp_path / "filters.tsv")
+    assert qc["filter"].to_list() == [f["name"] for f in FILTERS]
+    assert qc["kept"].to_list() == qc["structures"].to_list() == [len(EXPECTED[f["name"]]) for f in FILTERS]
+    assert qc["annotated"].to_list() == [7] * len(FILTERS), "eight records, one unparsable"
+    assert qc.row(0, named=True) | {"kept": None, "structures": None} == {
+        "filter": "charge_-1_to_1_at_7.4",
+        "ph": 7.4,
+        "charge_min": -1,
+        "charge_max": 1,
+        "classes": "any",
+        "min_neutral_fraction": None,
+        "kept": None,
+        "annotated": 7,
+        "structures": None,
+    }
+
+
+def test_summary_json_carries_the_filter_counts(library: dict[str, Path], tmp_path: Path) -> None:
+    specs = filter_specs(FILTERS[:1])
+    filter_library(
+        library["annotated"], [library["docking"]], specs=specs, outdir=tmp_path, qc_table=tmp_path / "f.tsv"
+    )
+    outputs = {name: tmp_path / f"{name}.out" for name in OUTPUTS}
+    write_qc(library["annotated"], outputs=outputs, filters=tmp_path / "f.tsv")
+    summary = json.loads(outputs["summary"].read_text())
+    assert summary["filters"] == [
+        {"filter": "charge_-1_to_1_at_7.4", "ph": 7.4, "kept": 5, "annotated": 7, "structures": 5}
+    ]
+
+
+def test_no_filters_still_writes_an_empty_qc_table(library: dict[str, Path], tmp_path: Path) -> None:
+    assert (
+        filter_library(
+            library["annotated"], [library["docking"]], specs=[], outdir=tmp_path, qc_table=tmp_path / "f.tsv"
+        )
+        == {}
+    )
+    table = read_filter_counts(tmp_path / "f.tsv")
+    assert table.height == 0 and table.schema == pl.Schema(FILTER_COUNTS_SCHEMA)
+
+
+def test_filter_ph_values_join_the_run() -> None:
+    specs = filter_specs(FILTERS)
+    assert ph_values_with_filters([5.0], specs) == [5.0, 7.4, 2.0]
+    assert ph_values_with_filters([7.4, 2.0], specs) == [7.4, 2.0]
+    assert ph_values_with_filters([7.4], []) == [7.4]
+
+
+def test_config_entries_become_specs() -> None:
+    (default,) = filter_specs(SCHEMA["properties"]["filters"]["default"])
+    assert default == FilterSpec("charge_-1_to_1_at_7.4", ph=7.4, charge_min=-1, charge_max=1)
+    with pytest.raises(ValueError, match=r"repeated: \['x'\]"):
+        filter_specs([{"name": "x", "ph": 7.4}, {"name": "x", "ph": 5.0}])
+    with pytest.raises(ValueError, match="charge_min"):
+        filter_specs([{"name": "x", "ph": 7.4, "charge_min": 2, "charge_max": 1}])
+
+
+def test_filter_schema_matches_the_package() -> None:
+    item = SCHEMA["properties"]["filters"]["items"]
+    assert set(item["properties"]["classes"]["items"]["enum"]) == ION_CLASSES
+    for key, spec in item["properties"].items():
+        assert "description" in spec, key
+        assert "default" in spec or key in item["required"], key
