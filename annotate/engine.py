@@ -8,7 +8,7 @@ microstates and species (annotate.species).
 from __future__ import annotations
 
 from collections.abc import Iterable, Iterator
-from dataclasses import replace
+from dataclasses import dataclass, replace
 
 import numpy as np
 from rdkit import Chem
@@ -50,25 +50,40 @@ def annotate_mol(
     mol: Chem.Mol | None, *, id: str = "", settings: Settings = DEFAULT, reason: str | None = None
 ) -> MoleculeResult:
     """Annotate an RDKit molecule (not modified). A None molecule becomes an error row."""
+    return annotate_with_parent(mol, id=id, settings=settings, reason=reason).result
+
+
+@dataclass(frozen=True, slots=True)
+class Annotated:
+    """A result plus what structure exporters need to rebuild its species.
+
+    ``parent`` keeps the input's coordinates; ``parent_sites`` are the result's
+    sites numbered in ``parent`` (the result numbers them as in ``parent_smiles``).
+    Both are None / empty for an error row.
+    """
+
+    result: MoleculeResult
+    parent: Chem.Mol | None = None
+    parent_sites: tuple[Site, ...] = ()
+
+
+def annotate_with_parent(
+    mol: Chem.Mol | None, *, id: str = "", settings: Settings = DEFAULT, reason: str | None = None
+) -> Annotated:
+    """As annotate_mol, keeping the parent, so exports need not annotate twice."""
     rules = load_ruleset(settings.user_rules)  # a bad rule file stops the run, not a record
     if mol is None:
-        return MoleculeResult(id=id, status="error", messages=(reason or "no molecule",))
+        return Annotated(MoleculeResult(id=id, status="error", messages=(reason or "no molecule",)))
     try:
         parent = parent_of(
             mol, keep_largest_fragment=settings.keep_largest_fragment, neutralize=settings.neutralize
         )
         return _annotate_parent(parent.mol, parent.messages, parent.warning, id, settings, rules)
     except RecordError as exc:
-        return MoleculeResult(id=id, status="error", messages=(str(exc),))
+        return Annotated(MoleculeResult(id=id, status="error", messages=(str(exc),)))
     except Exception as exc:  # a record must never stop a library
-        return MoleculeResult(id=id, status="error", messages=(f"internal error: {type(exc).__name__}: {exc}",))
-
-
-def annotate_parent(mol: Chem.Mol, *, settings: Settings = DEFAULT) -> tuple[tuple[Site, ...], MicrostateModel]:
-    """Sites and microstate model of an already standardised parent (used by exporters)."""
-    rules = load_ruleset(settings.user_rules)
-    sites = _sites(mol, rules)
-    return sites, _model(mol, sites, settings, rules)
+        message = f"internal error: {type(exc).__name__}: {exc}"
+        return Annotated(MoleculeResult(id=id, status="error", messages=(message,)))
 
 
 def _sites(mol: Chem.Mol, rules: RuleSet) -> tuple[Site, ...]:
@@ -95,7 +110,7 @@ def _model(mol: Chem.Mol, sites: tuple[Site, ...], settings: Settings, rules: Ru
 
 def _annotate_parent(
     mol: Chem.Mol, messages: tuple[str, ...], warning: bool, id: str, settings: Settings, rules: RuleSet
-) -> MoleculeResult:
+) -> Annotated:
     sites = _sites(mol, rules)
     if not sites and not any(a.GetAtomicNum() == 6 for a in mol.GetAtoms()):
         # a lone counter-ion, water or a mineral acid the rules do not cover
@@ -113,7 +128,7 @@ def _annotate_parent(
     cache: dict = {}
     states = tuple(_ph_state(mol, sites, model, ph, settings, cache) for ph in settings.ph)
     status = "warning" if warning else "ok"
-    return MoleculeResult(
+    result = MoleculeResult(
         id=id,
         status=status,
         messages=tuple(notes),
@@ -122,6 +137,7 @@ def _annotate_parent(
         macro_pka=model.macro_pka,
         ph_states=states,
     )
+    return Annotated(result, mol, sites)
 
 
 def _with_interactions(sites: tuple[Site, ...], model: MicrostateModel) -> tuple[Site, ...]:

@@ -11,19 +11,18 @@ from __future__ import annotations
 
 import logging
 import os
-from collections.abc import Iterable, Sequence
+from collections.abc import Iterable
 from typing import Literal
 
 from rdkit import Chem
 from rdkit.Chem import AllChem
 
-from annotate.engine import annotate_mol, annotate_parent
+from annotate.engine import annotate_with_parent
 from annotate.io.atomic import atomic_path
-from annotate.results import MoleculeResult, Site, Species
+from annotate.results import MoleculeResult, Species
 from annotate.ruleset import load_ruleset
 from annotate.settings import Settings
 from annotate.species.build import species_mol
-from annotate.standardize import parent_of
 
 Which = Literal["dominant", "all"]
 SMILES_HEADER = ("smiles", "id", "ph", "charge", "fraction")
@@ -70,12 +69,10 @@ def docking_records(
 def _records(
     mol: Chem.Mol, *, id: str, settings: Settings, which: Which, limit: int, embed_3d: bool, seed: int
 ) -> list[Chem.Mol]:
-    result = annotate_mol(mol, id=id, settings=settings)
-    if result.status == "error":
+    annotated = annotate_with_parent(mol, id=id, settings=settings)
+    result, parent, sites = annotated.result, annotated.parent, annotated.parent_sites
+    if result.status == "error" or parent is None:
         raise ValueError(result.message or "annotation failed")
-    parent = parent_of(mol, keep_largest_fragment=settings.keep_largest_fragment, neutralize=settings.neutralize).mol
-    sites, _ = annotate_parent(parent, settings=settings)
-    _check_same_parent(parent, sites, result)
     has_3d = parent.GetNumConformers() > 0 and parent.GetConformer().Is3D()
     properties = _input_properties(mol)
     records: list[Chem.Mol] = []
@@ -86,15 +83,6 @@ def _records(
             _label(structure, id=id, ph=state.ph, rank=rank, species=species, result=result, properties=properties)
             records.append(structure)
     return records
-
-
-def _check_same_parent(parent: Chem.Mol, sites: Sequence[Site], result: MoleculeResult) -> None:
-    """Species patterns come from the result; they only apply if both saw the same parent."""
-    same = Chem.MolToSmiles(Chem.Mol(parent)) == result.parent_smiles and [s.kind for s in sites] == [
-        s.kind for s in result.sites
-    ]
-    if not same:
-        raise RuntimeError("parent used for structures differs from the annotated parent")
 
 
 def _placed(species: Chem.Mol, *, has_3d: bool, embed_3d: bool, seed: int) -> Chem.Mol:
