@@ -10,13 +10,8 @@ from rdkit import Chem
 
 from annotate.io.records import NO_MOLBLOCK_END
 from annotate.io.sdf import iter_sdf
+from tests.helpers import molblock
 
-
-def molblock(smiles: str, title: str, *, v3000: bool = False) -> bytes:
-    mol = Chem.MolFromSmiles(smiles)
-    mol.SetProp("_Name", title)
-    text = Chem.MolToV3KMolBlock(mol) if v3000 else Chem.MolToMolBlock(mol)
-    return text.encode()
 
 
 def record(smiles: str, title: str, props: dict[str, bytes] | None = None, *, v3000: bool = False) -> bytes:

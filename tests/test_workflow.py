@@ -20,10 +20,12 @@ import pyarrow as pa
 import pyarrow.parquet as pq
 import pytest
 import yaml
-from rdkit import Chem
 
 from annotate.io.records import NO_MOLBLOCK_END
 from annotate.io.schema import ANNOTATION_SCHEMA, NOTICE, read_run_metadata
+from tests.helpers import molblock
+from tests.helpers import run_snakemake as snakemake
+from tests.helpers import sd_items as items
 
 pytestmark = pytest.mark.slow
 
@@ -31,14 +33,6 @@ ROOT = Path(__file__).resolve().parents[1]
 CHUNK_SIZE = 2
 
 
-def molblock(smiles: str, title: str, *, v3000: bool = False) -> bytes:
-    mol = Chem.MolFromSmiles(smiles)
-    mol.SetProp("_Name", title)
-    return (Chem.MolToV3KMolBlock(mol) if v3000 else Chem.MolToMolBlock(mol)).encode()
-
-
-def items(**props: bytes) -> bytes:
-    return b"".join(b"> <" + k.encode() + b">\n" + v + b"\n\n" for k, v in props.items())
 
 
 SDF = b"".join(
@@ -70,18 +64,6 @@ LIBRARIES = {
 }
 RECORDS = {"sdf": 5, "sdf_gz": 5, "smi": 4, "csv": 4, "parquet": 3, "empty": 0}
 
-
-def snakemake(workdir: Path, *args: str) -> subprocess.CompletedProcess[str]:
-    run = subprocess.run(
-        [sys.executable, "-m", "snakemake", *args],
-        cwd=workdir,
-        stdout=subprocess.PIPE,
-        stderr=subprocess.STDOUT,
-        text=True,
-        check=False,
-    )
-    assert run.returncode == 0, run.stdout[-6000:]
-    return run
 
 
 def jobs_of(rule: str, output: str) -> int:

@@ -13,7 +13,7 @@ salt forms and batches, so a duplicate is not a reason to drop or flag a record;
 ``(library, input_index)`` is the row key that is always unique.
 
 This module also holds the helpers that the other workflow test modules share
-(``workdir``, ``snakemake_command``, ``snakemake``, ``molblock``, ``items``).
+(``workdir``, ``snakemake_command``, ``snakemake``; structure builders come from tests.helpers).
 """
 
 from __future__ import annotations
@@ -40,6 +40,8 @@ from annotate.pipeline import annotate_chunk, split_library
 from annotate.pipeline.preflight import RunCheckError, check_run, library_problem
 from annotate.settings import Settings
 from annotate.tables import RuleFileError
+from tests.helpers import molblock, run_snakemake
+from tests.helpers import sd_items as items
 
 ROOT = Path(__file__).resolve().parents[1]
 SNAKEFILE = ROOT / "Snakefile"
@@ -60,35 +62,23 @@ def workdir(root: Path, *, libraries: dict[str, object], **settings: object) -> 
     return root
 
 
+def snakemake_args(*args: str, config: str = "run.yaml") -> list[str]:
+    """Snakemake arguments for the real workflow with a config file, run in the run directory."""
+    return ["--snakefile", str(SNAKEFILE), "--configfile", config, *args]
+
+
 def snakemake_command(*args: str, config: str = "run.yaml") -> list[str]:
-    """The Snakemake CLI on the real workflow with a config file; run it in the run directory."""
-    return [sys.executable, "-m", "snakemake", "--snakefile", str(SNAKEFILE), "--configfile", config, *args]
+    """The whole Snakemake command line, for tests that start it as a process of their own."""
+    return [sys.executable, "-m", "snakemake", *snakemake_args(*args, config=config)]
 
 
 def snakemake(
     root: Path, *args: str, config: str = "run.yaml", ok: bool = True
 ) -> subprocess.CompletedProcess[str]:
-    """Run the workflow in ``root``; ``ok`` says which exit code to expect."""
-    run = subprocess.run(
-        snakemake_command(*args, config=config),
-        cwd=root,
-        stdout=subprocess.PIPE,
-        stderr=subprocess.STDOUT,
-        text=True,
-        check=False,
-    )
-    assert (run.returncode == 0) == ok, run.stdout[-6000:]
-    return run
+    """Run the workflow in ``root`` with a config file; ``ok`` says which exit code to expect."""
+    return run_snakemake(root, *snakemake_args(*args, config=config), ok=ok)
 
 
-def molblock(smiles: str, title: str, *, v3000: bool = False) -> bytes:
-    mol = Chem.MolFromSmiles(smiles)
-    mol.SetProp("_Name", title)
-    return (Chem.MolToV3KMolBlock(mol) if v3000 else Chem.MolToMolBlock(mol)).encode()
-
-
-def items(**props: bytes) -> bytes:
-    return b"".join(b"> <" + k.encode() + b">\n" + v + b"\n\n" for k, v in props.items())
 
 
 def output_files(root: Path) -> list[Path]:

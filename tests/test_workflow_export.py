@@ -10,8 +10,6 @@ its own, one at a pH the user did not list. Literature pKa values are from memor
 from __future__ import annotations
 
 import json
-import subprocess
-import sys
 from pathlib import Path
 
 import numpy as np
@@ -20,6 +18,8 @@ import pytest
 import yaml
 from rdkit import Chem
 from rdkit.Chem import AllChem
+
+from tests.helpers import run_snakemake
 
 pytestmark = pytest.mark.slow
 
@@ -51,16 +51,7 @@ def _embedded(id_: str, smiles: str) -> Chem.Mol:
 
 
 def snakemake(workdir: Path, *args: str) -> str:
-    run = subprocess.run(
-        [sys.executable, "-m", "snakemake", "--cores", "2", *args],
-        cwd=workdir,
-        stdout=subprocess.PIPE,
-        stderr=subprocess.STDOUT,
-        text=True,
-        check=False,
-    )
-    assert run.returncode == 0, run.stdout[-6000:]
-    return run.stdout
+    return run_snakemake(workdir, "--cores", "2", *args).stdout
 
 
 @pytest.fixture(scope="module")

@@ -27,7 +27,9 @@ from polars.testing import assert_frame_equal
 
 from annotate.io.schema import ANNOTATION_SCHEMA
 
-from tests.test_workflow_bad_input import items, molblock, snakemake, workdir
+from tests.helpers import molblock
+from tests.helpers import sd_items as items
+from tests.test_workflow_bad_input import snakemake, workdir
 
 pytestmark = pytest.mark.slow
 
