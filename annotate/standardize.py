@@ -37,6 +37,8 @@ def parent_of(mol: Chem.Mol, *, keep_largest_fragment: bool = True, neutralize: 
     scan = _scan(mol)
     if scan.dummy:
         raise RecordError("dummy atom '*' (attachment point or query atom): not a complete molecule")
+    if mol.GetNumAtoms() == 0:
+        raise RecordError("empty structure (no atoms)")
     if mol.GetNumHeavyAtoms() == 0:
         raise RecordError("no heavy atoms (hydrogen only)")
     if len(Chem.GetMolFrags(mol)) > 1:
