@@ -124,6 +124,8 @@ def _term(rule: GroupRule, sub: Substituent, name: str, position: str, distance:
         sd = (TERM_RELATIVE_SD * abs(value)) + UNKNOWN_SD / 2
     else:
         sigma = sub.sigma("meta" if (distance == 2) else "para", minus=minus)
+        if distance == 3:
+            sigma *= rule.para_k
         value = -rule.rho * sigma
         sd = TERM_RELATIVE_SD * abs(value)
     label = f"{name} {position} (sigma {sigma:.2f})"

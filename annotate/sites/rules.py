@@ -30,6 +30,7 @@ class GroupRule:
     sigma: Literal["p", "p-"]
     ortho_k: float
     ortho_c: float
+    para_k: float
     merge_overlaps: bool
     sd: float
     source: str
@@ -98,6 +99,7 @@ def parse_group_row(row: Row) -> GroupRule:
         sigma=sigma,  # type: ignore[arg-type]
         ortho_k=row.float_field("ortho_k", default=0.0),
         ortho_c=row.float_field("ortho_c", default=0.0),
+        para_k=row.float_field("para_k", default=1.0),
         merge_overlaps=overlap == "merge",
         sd=sd,
         source=row.text_field("source"),
