@@ -115,16 +115,19 @@ def _fused(mol: Chem.Mol, p: int, s: int, ring: set[int]) -> bool:
 
 
 def _term(rule: GroupRule, sub: Substituent, name: str, position: str, distance: int, size: int) -> Contribution:
+    """One ring position's term. The row's ortho shift and para scale describe how
+    substituents act in that series; ring members (aza, fusion) carry constants
+    derived for the position directly, so neither applies to them."""
     minus = rule.sigma == "p-"
-    ortho = distance == 1
-    if ortho:
+    substituent = sub.pattern is not None
+    if distance == 1:
         para = sub.sigma(position="para", minus=minus)
         sigma = sub.sigma_o if sub.sigma_o is not None else para + rule.ortho_k * sub.sigma_i
-        value = -rule.rho * sigma + rule.ortho_c
+        value = -rule.rho * sigma + (rule.ortho_c if substituent else 0.0)
         sd = (TERM_RELATIVE_SD * abs(value)) + UNKNOWN_SD / 2
     else:
         sigma = sub.sigma("meta" if (distance == 2) else "para", minus=minus)
-        if distance == 3:
+        if distance == 3 and substituent:
             sigma *= rule.para_k
         value = -rule.rho * sigma
         sd = TERM_RELATIVE_SD * abs(value)
