@@ -58,14 +58,14 @@ def hammett_contributions(
         position = names[distance]
         atom = mol.GetAtomWithIdx(p)
         if p not in group and _is_pyridine_like(atom):
-            out.append(_term(rule, table.ring_aza, "ring N", position, distance, size))
+            out.append(_term(rule, table.ring_aza, "ring N", position, distance))
         for nbr in atom.GetNeighbors():
             s = nbr.GetIdx()
             if s in ring_set or s in group:
                 continue
             bond = mol.GetBondBetweenAtoms(p, s)
             if bond.IsInRing() and nbr.GetIsAromatic() and _fused(mol, p, s, ring_set):
-                out.append(_term(rule, table.ring_fusion, "fused ring", position, distance, size))
+                out.append(_term(rule, table.ring_fusion, "fused ring", position, distance))
                 continue
             hit = index.lookup(s, excluded=group | {p})
             if hit is None:
@@ -74,7 +74,7 @@ def hammett_contributions(
                 continue
             if hit.sigma_star is None and hit.root_element == 6:
                 hit = _substituted_alkyl(mol, s, p, group, index, hit)
-            out.append(_term(rule, hit, hit.name, position, distance, size))
+            out.append(_term(rule, hit, hit.name, position, distance))
     return out
 
 
@@ -114,7 +114,7 @@ def _fused(mol: Chem.Mol, p: int, s: int, ring: set[int]) -> bool:
     return False
 
 
-def _term(rule: GroupRule, sub: Substituent, name: str, position: str, distance: int, size: int) -> Contribution:
+def _term(rule: GroupRule, sub: Substituent, name: str, position: str, distance: int) -> Contribution:
     """One ring position's term. The row's ortho shift and para scale describe how
     substituents act in that series; ring members (aza, fusion) carry constants
     derived for the position directly, so neither applies to them."""
