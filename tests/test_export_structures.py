@@ -74,6 +74,8 @@ def test_sdf_charges_properties_and_title_match_annotation(tmp_path: Path) -> No
     assert float(back.GetProp("ionotate_fraction")) == pytest.approx(dominant.fraction)
     assert float(back.GetProp("ionotate_ph")) == pytest.approx(7.4)
     assert int(back.GetProp("ionotate_rank")) == 1
+    # the stored SMILES is the annotated species and describes the structure written beside it
+    assert back.GetProp("ionotate_smiles") == dominant.smiles == Chem.MolToSmiles(Chem.RemoveHs(back))
     macro = [float(v) for v in back.GetProp("ionotate_macro_pka").split()]
     assert macro == pytest.approx(sorted(expected.macro_pka), abs=0.005)
     # glycine-like amino acid at pH 7.4: both centres charged (common practice)

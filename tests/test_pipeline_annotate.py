@@ -85,14 +85,14 @@ def test_an_engine_exception_costs_one_row_not_the_chunk(
     source.write_text("CCO a\nCCN b\n")
     split_library(LibrarySpec(name="lib", path=source), tmp_path / "chunks", chunk_size=10)
 
-    real = module._ANNOTATORS["smiles"]
+    real = module._PARSERS["smiles"]
 
-    def flaky(smiles: str, **kwargs: object):
+    def flaky(smiles: str):
         if smiles == "CCN":
             raise RuntimeError("boom")
-        return real(smiles, **kwargs)
+        return real(smiles)
 
-    monkeypatch.setitem(module._ANNOTATORS, "smiles", flaky)
+    monkeypatch.setitem(module._PARSERS, "smiles", flaky)
     out = tmp_path / "annotated.parquet"
     annotate_chunk(tmp_path / "chunks" / "000000.parquet", out, settings=Settings())
     rows = pq.read_table(out).to_pylist()

@@ -1,4 +1,4 @@
-"""export_chunk_structures and export_docking_structures on split chunks; docking config defaults."""
+"""Docking records built by annotate_chunk, joined by export_docking_structures; docking config defaults."""
 
 from __future__ import annotations
 
@@ -18,7 +18,8 @@ from annotate.export.docking_table import DOCKING_SCHEMA
 from annotate.io.library import LibrarySpec
 from annotate.io.schema import read_run_metadata
 from annotate.pipeline import split_library
-from annotate.pipeline.docking import DockingOptions, export_chunk_structures, export_docking_structures, ph_label
+from annotate.pipeline import annotate_chunk
+from annotate.pipeline.docking import DockingOptions, export_docking_structures, ph_label
 
 ROOT = Path(__file__).resolve().parents[1]
 SCHEMA = yaml.safe_load((ROOT / "workflow" / "schemas" / "config.schema.yaml").read_text())
@@ -35,6 +36,12 @@ def _embedded(smiles: str, title: str, **props: str) -> Chem.Mol:
     for key, value in props.items():
         mol.SetProp(key, value)
     return mol
+
+
+def _docking(chunk: Path, out: Path, *, settings: Settings, options: DockingOptions | None = DockingOptions()) -> int:
+    """Annotate ``chunk`` with its docking records in ``out``; returns how many records were written."""
+    annotate_chunk(chunk, out.with_suffix(".annotated.parquet"), settings=settings, docking_out=out, docking=options)
+    return pq.read_metadata(out).num_rows
 
 
 def _split(spec: LibrarySpec, folder: Path) -> Path:
@@ -63,7 +70,7 @@ def _heavy_xyz(mol: Chem.Mol) -> np.ndarray:
 def test_3d_chunk_keeps_coordinates_properties_and_stereo(sdf_3d: tuple[list[Chem.Mol], Path], tmp_path: Path) -> None:
     inputs, chunk = sdf_3d
     out = tmp_path / "docking.parquet"
-    written = export_chunk_structures(chunk, out, settings=SETTINGS, options=DockingOptions())
+    written = _docking(chunk, out, settings=SETTINGS)
     table = pq.read_table(out)
     assert table.schema.remove_metadata().equals(DOCKING_SCHEMA) and table.num_rows == written == 4
     assert "Verify" in read_run_metadata(table.schema)["notice"]
@@ -90,7 +97,7 @@ def test_table_input_carries_columns_but_not_the_molblock(tmp_path: Path) -> Non
         tmp_path / "lib.parquet",
     )
     chunk = _split(LibrarySpec(name="t", path=tmp_path / "lib.parquet", structure="molblock"), tmp_path / "chunks")
-    export_chunk_structures(chunk, tmp_path / "d.parquet", settings=Settings(), options=DockingOptions())
+    _docking(chunk, tmp_path / "d.parquet", settings=Settings(), options=DockingOptions())
     (row,) = pq.read_table(tmp_path / "d.parquet").to_pylist()
     supplier = Chem.SDMolSupplier()
     supplier.SetData(row["sdf"])
@@ -104,11 +111,11 @@ def test_all_species_with_cap_and_embedding(tmp_path: Path) -> None:
     chunk = _split(LibrarySpec(name="s", path=tmp_path / "lib.smi"), tmp_path / "chunks")
     at_pka = Settings(ph=(2.3,))
     uncapped = DockingOptions(species="all", max_per_molecule=4)
-    export_chunk_structures(chunk, tmp_path / "all.parquet", settings=at_pka, options=uncapped)
+    _docking(chunk, tmp_path / "all.parquet", settings=at_pka, options=uncapped)
     # near the COOH pKa (about 2.3, from memory) glycine has two large species
     assert [r["rank"] for r in pq.read_table(tmp_path / "all.parquet").to_pylist()] == [1, 2]
     options = DockingOptions(species="all", max_per_molecule=1, embed_3d=True, seed=3)
-    export_chunk_structures(chunk, tmp_path / "d.parquet", settings=at_pka, options=options)
+    _docking(chunk, tmp_path / "d.parquet", settings=at_pka, options=options)
     rows = pq.read_table(tmp_path / "d.parquet").to_pylist()
     assert [r["rank"] for r in rows] == [1]
     assert Chem.MolFromMolBlock(rows[0]["sdf"]).GetConformer().Is3D()
@@ -116,7 +123,7 @@ def test_all_species_with_cap_and_embedding(tmp_path: Path) -> None:
 
 def test_join_writes_one_file_per_ph_and_format(sdf_3d: tuple[list[Chem.Mol], Path], tmp_path: Path) -> None:
     _, chunk = sdf_3d
-    export_chunk_structures(chunk, tmp_path / "000000.parquet", settings=SETTINGS, options=DockingOptions())
+    _docking(chunk, tmp_path / "000000.parquet", settings=SETTINGS, options=DockingOptions())
     outputs = [tmp_path / "ph7.4.sdf", tmp_path / "ph7.4.smi", tmp_path / "ph2.sdf"]
     counts = export_docking_structures([tmp_path / "000000.parquet"], outputs, phs=[7.4, 7.4, 2.0])
     assert counts == {str(p): 2 for p in outputs}

@@ -18,7 +18,8 @@ from rdkit import Chem
 from annotate.export.filters import ION_CLASSES, FilterSpec
 from annotate.io.library import LibrarySpec
 from annotate.pipeline import annotate_chunk, gather_annotations, split_library
-from annotate.pipeline.docking import DockingOptions, export_chunk_structures
+from annotate.pipeline import annotate_chunk
+from annotate.pipeline.docking import DockingOptions
 from annotate.pipeline.filtering import filter_library, filter_specs, ph_values_with_filters
 from annotate.qc.filters import FILTER_COUNTS_SCHEMA, read_filter_counts
 from annotate.qc.report import OUTPUTS, write_qc
@@ -66,9 +67,9 @@ def library(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Path]:
     split_library(LibrarySpec(name="lib", path=folder / "lib.smi"), folder / "chunks", chunk_size=100)
     chunk = folder / "chunks" / "000000.parquet"
     settings = Settings(ph=tuple(ph_values_with_filters([7.4], filter_specs(FILTERS))))
-    annotate_chunk(chunk, folder / "annotated" / "000000.parquet", settings=settings)
-    gather_annotations(folder / "chunks", [folder / "annotated" / "000000.parquet"], folder / "annotated.parquet")
-    export_chunk_structures(chunk, folder / "docking.parquet", settings=settings, options=DockingOptions())
+    annotated = folder / "annotated" / "000000.parquet"
+    annotate_chunk(chunk, annotated, settings=settings, docking_out=folder / "docking.parquet", docking=DockingOptions())
+    gather_annotations(folder / "chunks", [annotated], folder / "annotated.parquet")
     return {"annotated": folder / "annotated.parquet", "docking": folder / "docking.parquet"}
 
 

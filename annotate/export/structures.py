@@ -11,13 +11,13 @@ from __future__ import annotations
 
 import logging
 import os
-from collections.abc import Iterable
+from collections.abc import Iterable, Mapping
 from typing import Literal
 
 from rdkit import Chem
 from rdkit.Chem import AllChem
 
-from annotate.engine import annotate_with_parent
+from annotate.engine import Annotated, annotate_with_parent
 from annotate.io.atomic import atomic_path
 from annotate.results import MoleculeResult, Species
 from annotate.ruleset import load_ruleset
@@ -43,38 +43,85 @@ def docking_records(
 ) -> list[Chem.Mol]:
     """Species of one input molecule, at every configured pH, as molecules with explicit H.
 
+    Annotates ``mol`` and hands the result to :func:`species_records`; the
+    molecule's own SD properties are carried. A record that cannot be built
+    gives ``[]`` (the reason is logged) so one molecule never stops a library.
+    """
+    load_ruleset(settings.user_rules)  # a bad rule file stops the export, not a record
+    if mol is None:
+        return []
+    annotated = annotate_with_parent(mol, id=id, settings=settings)
+    return species_records(
+        annotated,
+        id=id,
+        properties=_input_properties(mol),
+        which=which,
+        max_per_molecule=max_per_molecule,
+        embed_3d=embed_3d,
+        seed=seed,
+    )
+
+
+def species_records(
+    annotated: Annotated,
+    *,
+    id: str,
+    properties: Mapping[str, str],
+    which: Which,
+    max_per_molecule: int,
+    embed_3d: bool,
+    seed: int,
+) -> list[Chem.Mol]:
+    """Docking records of an annotation already made, so a chunk job parses and annotates once.
+
     ``which="dominant"`` gives the most abundant species per pH; ``"all"`` every
     species the annotation keeps (above ``settings.min_fraction``). At most
     ``max_per_molecule`` records per pH, in pH order then rank, so that each
     pH's export gets the same cap whatever other pH values are configured. 3D input keeps
     its coordinates (``embed_3d`` is ignored); otherwise 2D input coordinates
-    are kept or a depiction drawn, or with ``embed_3d`` one seeded conformer is
-    generated. A record that cannot be built gives ``[]`` (the reason is logged)
-    so one molecule never stops a library.
+    are kept or one depiction drawn for all species, or with ``embed_3d`` one
+    seeded conformer per species is generated. ``properties`` become SD fields.
+    Never raises for a record: a failure gives ``[]`` and a logged reason.
     """
     if which not in ("dominant", "all"):
         raise ValueError(f"which must be 'dominant' or 'all', not {which!r}")
     if max_per_molecule < 1:
         raise ValueError(f"max_per_molecule must be at least 1, not {max_per_molecule}")
-    load_ruleset(settings.user_rules)  # a bad rule file stops the export, not a record
-    if mol is None:
+    result = annotated.result
+    if result.status == "error" or annotated.parent is None:
+        _LOG.warning("%s: no structures written: %s", id, result.message or "annotation failed")
         return []
     try:
-        return _records(mol, id=id, settings=settings, which=which, limit=max_per_molecule, embed_3d=embed_3d, seed=seed)
+        return _records(
+            annotated,
+            id=id,
+            properties=properties,
+            which=which,
+            limit=max_per_molecule,
+            embed_3d=embed_3d,
+            seed=seed,
+        )
     except Exception as exc:  # one bad record must never stop an export
         _LOG.warning("%s: no structures written: %s: %s", id, type(exc).__name__, exc)
         return []
 
 
 def _records(
-    mol: Chem.Mol, *, id: str, settings: Settings, which: Which, limit: int, embed_3d: bool, seed: int
+    annotated: Annotated,
+    *,
+    id: str,
+    properties: Mapping[str, str],
+    which: Which,
+    limit: int,
+    embed_3d: bool,
+    seed: int,
 ) -> list[Chem.Mol]:
-    annotated = annotate_with_parent(mol, id=id, settings=settings)
     result, parent, sites = annotated.result, annotated.parent, annotated.parent_sites
-    if result.status == "error" or parent is None:
-        raise ValueError(result.message or "annotation failed")
+    assert parent is not None
     has_3d = parent.GetNumConformers() > 0 and parent.GetConformer().Is3D()
-    properties = _input_properties(mol)
+    if not has_3d and not embed_3d and parent.GetNumConformers() == 0:
+        parent = Chem.Mol(parent)  # one depiction serves every species: they share the heavy atoms
+        AllChem.Compute2DCoords(parent)
     records: list[Chem.Mol] = []
     for state in result.ph_states:
         chosen = state.species[:1] if which == "dominant" else state.species[:limit]
@@ -87,13 +134,8 @@ def _records(
 
 def _placed(species: Chem.Mol, *, has_3d: bool, embed_3d: bool, seed: int) -> Chem.Mol:
     """Explicit hydrogens with coordinates that suit the input's dimensionality."""
-    if has_3d:
-        return Chem.AddHs(species, addCoords=True)
-    if embed_3d:
+    if embed_3d and not has_3d:
         return _embedded(species, seed=seed)
-    if species.GetNumConformers() == 0:
-        species = Chem.Mol(species)
-        AllChem.Compute2DCoords(species)
     return Chem.AddHs(species, addCoords=True)
 
 
@@ -141,7 +183,7 @@ def _label(
     rank: int,
     species: Species,
     result: MoleculeResult,
-    properties: dict[str, str],
+    properties: Mapping[str, str],
 ) -> None:
     """Input properties first, so our own names win a clash and always mean one thing.
 
@@ -157,6 +199,7 @@ def _label(
     mol.SetProp("ionotate_ph", repr(float(ph)))
     mol.SetIntProp("ionotate_rank", rank)
     mol.SetIntProp("ionotate_charge", species.charge)
+    mol.SetProp("ionotate_smiles", species.smiles)
     mol.SetProp("ionotate_fraction", repr(float(species.fraction)))
     mol.SetProp("ionotate_macro_pka", " ".join(f"{v:.2f}" for v in sorted(result.macro_pka)))
 
@@ -172,8 +215,8 @@ def smiles_line(*, smiles: str, id: str, ph: float, charge: int, fraction: float
 
 
 def record_smiles(mol: Chem.Mol) -> str:
-    """The species as canonical SMILES, hydrogens implicit again."""
-    return Chem.MolToSmiles(Chem.RemoveHs(mol))
+    """The species' canonical SMILES, as in the annotated table (stored by the record's labels)."""
+    return mol.GetProp("ionotate_smiles")
 
 
 def write_sdf(records: Iterable[Chem.Mol], path: str | os.PathLike[str]) -> int:

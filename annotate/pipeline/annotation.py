@@ -2,39 +2,72 @@
 
 Reading problems found by the split become error rows (or warnings on top of
 the engine's verdict) here, so the engine only ever sees extractable records.
+The same pass can build the chunk's docking records, so each record is parsed
+and annotated once however many outputs need it.
 """
 
 from __future__ import annotations
 
 import json
 import logging
+import os
 import time
 import traceback
 from collections import Counter
-from collections.abc import Callable
-from dataclasses import replace
+from collections.abc import Iterator, Mapping, Sequence
+from contextlib import ExitStack
+from dataclasses import asdict, replace
 from pathlib import Path
+from typing import Any
 
 import pyarrow as pa
 import pyarrow.parquet as pq
-from rdkit import rdBase
+from rdkit import Chem, rdBase
 
 import annotate
-from annotate.engine import annotate_molblock, annotate_smiles
+from annotate.engine import Annotated, annotate_with_parent
+from annotate.export.docking_table import DOCKING_SCHEMA, docking_table
+from annotate.export.structures import species_records
 from annotate.io.atomic import atomic_path
-from annotate.io.schema import CHUNK_SCHEMA, annotation_table, input_fields, read_run_metadata, run_metadata
+from annotate.io.schema import (
+    CHUNK_SCHEMA,
+    META_PREFIX,
+    NOTICE,
+    annotation_table,
+    input_fields,
+    read_run_metadata,
+    run_metadata,
+)
+from annotate.parse import mol_from_molblock, mol_from_smiles
+from annotate.pipeline.docking import DockingOptions
 from annotate.results import MoleculeResult
 from annotate.ruleset import load_ruleset
 from annotate.settings import Settings
 
 log = logging.getLogger(__name__)
 
-Annotator = Callable[..., MoleculeResult]
-_ANNOTATORS: dict[str, Annotator] = {"smiles": annotate_smiles, "molblock": annotate_molblock}
+_PARSERS = {"smiles": mol_from_smiles, "molblock": mol_from_molblock}
+#: records whose docking rows are written together, bounding what a job holds besides its results
+_DOCKING_BATCH = 256
 
 
-def annotate_chunk(chunk: str | Path, out: str | Path, *, settings: Settings) -> None:
-    """Annotate ``chunk`` (a split chunk file) into ``out`` (contract columns + input columns)."""
+def annotate_chunk(
+    chunk: str | os.PathLike[str],
+    out: str | os.PathLike[str],
+    *,
+    settings: Settings,
+    docking_out: str | os.PathLike[str] | None = None,
+    docking: DockingOptions | None = None,
+) -> None:
+    """Annotate ``chunk`` (a split chunk file) into ``out`` (contract columns + input columns).
+
+    With ``docking_out``, the docking records of every record at every pH of
+    ``settings`` (built as ``docking`` says) are written there too, as a
+    :data:`~annotate.export.docking_table.DOCKING_SCHEMA` table; ``docking=None``
+    writes that table empty (nothing downstream reads it) and skips the work.
+    A record that is unreadable or whose structures cannot be built gets none
+    (the reason is in the job's log and in its annotated row).
+    """
     rdBase.LogToPythonStderr()  # RDKit's own messages belong in this job's log
     started = time.perf_counter()
     # A bad rule file must fail the job, not turn every record into an "internal error" row.
@@ -43,29 +76,26 @@ def annotate_chunk(chunk: str | Path, out: str | Path, *, settings: Settings) ->
     table = pq.read_table(chunk)
     meta = read_run_metadata(table.schema)
     library = meta["library"]
-    annotator = _ANNOTATORS[meta["record_kind"]]
-    results = [
-        _annotate_record(annotator, record=rec, id=id_, error=err, warning=warn, settings=settings)
-        for rec, id_, err, warn in zip(
-            *(table.column(c).to_pylist() for c in ("record", "id", "read_error", "read_warning")),
-            strict=True,
-        )
-    ]
-    core = annotation_table(
-        results,
-        library=library,
-        input_index=table.column("input_index").to_pylist(),
-        ids=table.column("id").to_pylist(),
-    )
     carried = input_fields(table.schema, core=CHUNK_SCHEMA)
-    source = json.loads(meta["source"])
-    metadata = run_metadata(library=library, source=source, settings=settings, version=annotate.__version__)
-    out_table = pa.Table.from_arrays(
-        [*core.columns, *(table.column(f.name) for f in carried)],
-        schema=pa.schema([*core.schema, *carried], metadata=metadata),
-    )
-    with atomic_path(out) as tmp:
-        pq.write_table(out_table, tmp, compression="zstd")
+    with ExitStack() as stack:
+        structures = None
+        if docking_out is not None:
+            structures = stack.enter_context(_DockingWriter(docking_out, settings=settings, options=docking))
+        results = list(_annotate_rows(table, kind=meta["record_kind"], carried=carried, settings=settings, structures=structures))
+        core = annotation_table(
+            results,
+            library=library,
+            input_index=table.column("input_index").to_pylist(),
+            ids=table.column("id").to_pylist(),
+        )
+        source = json.loads(meta["source"])
+        metadata = run_metadata(library=library, source=source, settings=settings, version=annotate.__version__)
+        out_table = pa.Table.from_arrays(
+            [*core.columns, *(table.column(f.name) for f in carried)],
+            schema=pa.schema([*core.schema, *carried], metadata=metadata),
+        )
+        with atomic_path(out) as tmp:
+            pq.write_table(out_table, tmp, compression="zstd")
     counts = Counter(r.status for r in results)
     log.info(
         "%s: %d records (ok %d, warning %d, error %d) in %.1f s",
@@ -76,28 +106,107 @@ def annotate_chunk(chunk: str | Path, out: str | Path, *, settings: Settings) ->
         counts["error"],
         time.perf_counter() - started,
     )
+    if structures is not None:
+        log.info("%s: %d docking structures (%d records without)", chunk.name, structures.written, structures.without)
 
 
-def _annotate_record(
-    annotator: Annotator,
+def _annotate_rows(
+    table: pa.Table,
     *,
-    record: str | None,
-    id: str,
-    error: str | None,
-    warning: str | None,
+    kind: str,
+    carried: Sequence[pa.Field],
     settings: Settings,
-) -> MoleculeResult:
+    structures: _DockingWriter | None,
+) -> Iterator[MoleculeResult]:
+    parse = _PARSERS[kind]
+    names = [f.name for f in carried]
+    columns = ["input_index", "record", "id", "read_error", "read_warning", *names]
+    for row in table.select(columns).to_pylist():
+        annotated = _annotate_record(parse, row, settings=settings)
+        if structures is not None:
+            structures.add(row["input_index"], annotated, properties=_input_properties(row, carried=names))
+        yield annotated.result
+
+
+def _annotate_record(parse: Any, row: Mapping[str, Any], *, settings: Settings) -> Annotated:
     """One result per record, whatever happens; an engine exception is logged, not fatal."""
+    record, id_, error, warning = row["record"], row["id"], row["read_error"], row["read_warning"]
     if error is not None or record is None:
-        return MoleculeResult(id=id, status="error", messages=(error or "missing structure",))
+        return Annotated(MoleculeResult(id=id_, status="error", messages=(error or "missing structure",)))
     try:
-        result = annotator(record, id=id, settings=settings)
+        mol, reason = parse(record)
+        annotated = annotate_with_parent(mol, id=id_, settings=settings, reason=reason)
     except Exception as exc:  # the engine promises not to raise; one bad record must not sink the chunk
-        log.error("engine raised on record %r:\n%s", id, traceback.format_exc())
-        return MoleculeResult(
-            id=id, status="error", messages=(f"internal error: {type(exc).__name__}: {exc}",)
-        )
+        log.error("engine raised on record %r:\n%s", id_, traceback.format_exc())
+        message = f"internal error: {type(exc).__name__}: {exc}"
+        return Annotated(MoleculeResult(id=id_, status="error", messages=(message,)))
     if warning is None:
-        return result
+        return annotated
+    result = annotated.result
     status = "warning" if result.status == "ok" else result.status
-    return replace(result, status=status, messages=(*result.messages, warning))
+    return replace(annotated, result=replace(result, status=status, messages=(*result.messages, warning)))
+
+
+def _input_properties(row: Mapping[str, Any], *, carried: Sequence[str]) -> dict[str, str]:
+    """Carried input columns as SD properties; the structure column itself is the record, not a property."""
+    return {
+        name: str(value)
+        for name in carried
+        if (value := row[name]) is not None and value != row["record"]
+    }
+
+
+class _DockingWriter:
+    """Docking rows of a chunk, written in batches as records are annotated."""
+
+    def __init__(self, path: str | os.PathLike[str], *, settings: Settings, options: DockingOptions | None) -> None:
+        self.options = options
+        self.written = self.without = 0
+        self._path = path
+        self._metadata = {
+            META_PREFIX + "notice": NOTICE,
+            META_PREFIX + "docking": json.dumps(asdict(options) if options else None, sort_keys=True),
+            META_PREFIX + "ph": json.dumps(list(settings.ph)),
+        }
+        self._pending: list[tuple[int, Chem.Mol]] = []
+        self._records = 0
+
+    def __enter__(self) -> _DockingWriter:
+        self._stack = ExitStack()
+        tmp = self._stack.enter_context(atomic_path(self._path))
+        self._writer = self._stack.enter_context(pq.ParquetWriter(tmp, DOCKING_SCHEMA.with_metadata(self._metadata)))
+        return self
+
+    def add(self, input_index: int, annotated: Annotated, *, properties: Mapping[str, str]) -> None:
+        options = self.options
+        if options is None:
+            return
+        records = (
+            species_records(
+                annotated,
+                id=annotated.result.id,
+                properties=properties,
+                which=options.species,
+                max_per_molecule=options.max_per_molecule,
+                embed_3d=options.embed_3d,
+                seed=options.seed,
+            )
+            if annotated.parent is not None
+            else []
+        )
+        self.without += not records
+        self._pending.extend((input_index, mol) for mol in records)
+        self._records += 1
+        if self._records % _DOCKING_BATCH == 0:
+            self._flush()
+
+    def _flush(self) -> None:
+        table = docking_table(self._pending)
+        self._writer.write_table(table)
+        self.written += table.num_rows
+        self._pending = []
+
+    def __exit__(self, *exc_info: object) -> None:
+        if exc_info[0] is None:
+            self._flush()  # also writes an empty, typed table for an empty chunk
+        self._stack.__exit__(*exc_info)

@@ -4,6 +4,7 @@ rule annotate_chunk:
         user_rules=USER_RULES,
     output:
         annotated=f"{OUTDIR}/{{library}}/chunks/annotated/{{chunk}}.parquet",
+        docking=f"{OUTDIR}/{{library}}/chunks/docking/{{chunk}}.parquet",
     log:
         f"{OUTDIR}/logs/{{library}}/annotate_chunk/{{chunk}}.log",
     benchmark:
@@ -16,6 +17,8 @@ rule annotate_chunk:
         runtime=CHUNK_RUNTIME_MIN,
     params:
         settings=SETTINGS,
+        docking=asdict(DOCKING),
+        build_docking=BUILD_DOCKING,
         version=IONOTATE_VERSION,
     script:
         "../scripts/annotate_chunk.py"

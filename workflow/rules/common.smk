@@ -50,10 +50,6 @@ check_run(
 IONOTATE_VERSION = annotate.__version__
 ENV = "../envs/ionotate.yaml"
 
-# Requests of one annotate_chunk job, budgeting 0.3 s and 0.1 MB per record
-# on top of start-up; override per rule with `set-resources` in a profile.
-CHUNK_MEM_MB = 1000 + CHUNK_SIZE // 10
-CHUNK_RUNTIME_MIN = 10 + CHUNK_SIZE // 200
 
 DOCKING = DockingOptions.from_config(config["docking"])
 # One docking file per pH and format; the export job gets the pH of each file in this order.
@@ -67,11 +63,16 @@ FILTER_FILES = {
     ext: [f"{OUTDIR}/{{library}}/filters/{spec.name}.{ext}" for spec in FILTERS]
     for ext in ("parquet", "sdf")
 }
-# Requests of one export_chunk_structures job: 0.05 s per record and pH, 0.5 s
-# when embedding in 3D, on top of start-up.
-EXPORT_SECONDS_PER_RECORD = 0.5 if DOCKING.embed_3d else 0.05
-EXPORT_SECONDS = CHUNK_SIZE * len(config["ph"]) * EXPORT_SECONDS_PER_RECORD
-EXPORT_RUNTIME_MIN = 10 + int(EXPORT_SECONDS / 60)
+# Docking records are built in annotate_chunk's pass; with no docking file and no
+# filter to use them, the job writes an empty docking table and skips the work.
+BUILD_DOCKING = bool(DOCKING_FORMATS or FILTERS)
+# Requests of one annotate_chunk job: 0.3 s and 0.1 MB per record for the annotation,
+# plus per record and pH 0.05 s for docking records (0.5 s when embedding in 3D),
+# on top of start-up; override per rule with `set-resources` in a profile.
+DOCKING_SECONDS = 0.5 if DOCKING.embed_3d else 0.05
+CHUNK_SECONDS = CHUNK_SIZE * (0.3 + BUILD_DOCKING * len(config["ph"]) * DOCKING_SECONDS)
+CHUNK_MEM_MB = 1000 + CHUNK_SIZE // 10
+CHUNK_RUNTIME_MIN = 10 + int(CHUNK_SECONDS / 60)
 
 
 wildcard_constraints:

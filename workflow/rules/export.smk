@@ -1,27 +1,3 @@
-rule export_chunk_structures:
-    input:
-        chunk=f"{OUTDIR}/{{library}}/chunks/input/{{chunk}}.parquet",
-        user_rules=USER_RULES,
-    output:
-        docking=f"{OUTDIR}/{{library}}/chunks/docking/{{chunk}}.parquet",
-    log:
-        f"{OUTDIR}/logs/{{library}}/export_chunk_structures/{{chunk}}.log",
-    benchmark:
-        f"{OUTDIR}/benchmarks/{{library}}/export_chunk_structures/{{chunk}}.tsv"
-    conda:
-        ENV
-    threads: 1
-    resources:
-        mem_mb=CHUNK_MEM_MB,
-        runtime=EXPORT_RUNTIME_MIN,
-    params:
-        settings=SETTINGS,
-        docking=asdict(DOCKING),
-        version=IONOTATE_VERSION,
-    script:
-        "../scripts/export_chunk_structures.py"
-
-
 rule export_docking_structures:
     input:
         docking=docking_chunks,
