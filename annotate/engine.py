@@ -10,7 +10,6 @@ from __future__ import annotations
 from collections.abc import Iterable, Iterator
 from dataclasses import dataclass, replace
 
-import numpy as np
 from rdkit import Chem
 
 from annotate.parse import mol_from_molblock, mol_from_smiles
@@ -20,7 +19,7 @@ from annotate.results import MoleculeResult, PhState, Site, Species, Term
 from annotate.ruleset import RuleSet, load_ruleset
 from annotate.settings import Settings
 from annotate.sites.perceive import find_sites
-from annotate.species.build import species_smiles
+from annotate.species.build import SpeciesSmiles
 from annotate.species.microstates import MicrostateModel, build_model
 from annotate.standardize import RecordError, parent_of
 
@@ -32,12 +31,12 @@ _STRUCTURE_BUDGET = 64
 
 def annotate_smiles(smiles: str, *, id: str = "", settings: Settings = DEFAULT) -> MoleculeResult:
     mol, reason = mol_from_smiles(smiles)
-    return annotate_mol(mol, id=id, settings=settings, reason=reason)
+    return annotate_with_parent(mol, id=id, settings=settings, reason=reason, owned=True).result
 
 
 def annotate_molblock(block: str, *, id: str = "", settings: Settings = DEFAULT) -> MoleculeResult:
     mol, reason = mol_from_molblock(block)
-    return annotate_mol(mol, id=id, settings=settings, reason=reason)
+    return annotate_with_parent(mol, id=id, settings=settings, reason=reason, owned=True).result
 
 
 def annotate_many(smiles: Iterable[str], *, settings: Settings = DEFAULT) -> Iterator[MoleculeResult]:
@@ -68,15 +67,27 @@ class Annotated:
 
 
 def annotate_with_parent(
-    mol: Chem.Mol | None, *, id: str = "", settings: Settings = DEFAULT, reason: str | None = None
+    mol: Chem.Mol | None,
+    *,
+    id: str = "",
+    settings: Settings = DEFAULT,
+    reason: str | None = None,
+    owned: bool = False,
 ) -> Annotated:
-    """As annotate_mol, keeping the parent, so exports need not annotate twice."""
+    """As annotate_mol, keeping the parent, so exports need not annotate twice.
+
+    ``owned=True`` says the caller made ``mol`` and will not use it again, so it is
+    not copied first (it may be modified, and may become ``parent``).
+    """
     rules = load_ruleset(settings.user_rules)  # a bad rule file stops the run, not a record
     if mol is None:
         return Annotated(MoleculeResult(id=id, status="error", messages=(reason or "no molecule",)))
     try:
         parent = parent_of(
-            mol, keep_largest_fragment=settings.keep_largest_fragment, neutralize=settings.neutralize
+            mol,
+            keep_largest_fragment=settings.keep_largest_fragment,
+            neutralize=settings.neutralize,
+            copy=not owned,
         )
         return _annotate_parent(parent.mol, parent.messages, parent.warning, id, settings, rules)
     except RecordError as exc:
@@ -112,12 +123,13 @@ def _annotate_parent(
     mol: Chem.Mol, messages: tuple[str, ...], warning: bool, id: str, settings: Settings, rules: RuleSet
 ) -> Annotated:
     sites = _sites(mol, rules)
-    if not sites and not any(a.GetAtomicNum() == 6 for a in mol.GetAtoms()):
+    if not sites and not mol.HasSubstructMatch(_CARBON):
         # a lone counter-ion, water or a mineral acid the rules do not cover
         raise RecordError(f"no organic parent: {Chem.MolToSmiles(mol)} has no carbon and no ionizable site")
     model = _model(mol, sites, settings, rules)
     sites = _with_interactions(sites, model)
     parent_smiles = Chem.MolToSmiles(mol)
+    renumbered = _renumbered(mol, sites)  # before species SMILES are written from mol
     notes = list(messages)
     if model.truncated:
         warning = True  # populations are approximate; a filter on status must see it
@@ -125,23 +137,29 @@ def _annotate_parent(
             f"approximation: {len(sites)} sites exceed the exact limit; "
             f"{model.truncated} sites near the pH window fixed in their dominant form"
         )
-    cache: dict = {}
-    states = tuple(_ph_state(mol, sites, model, ph, settings, cache) for ph in settings.ph)
+    species = _SpeciesTable(mol, sites, model, parent_smiles)
+    states = tuple(_ph_state(species, model, ph, settings) for ph in settings.ph)
     status = "warning" if warning else "ok"
     result = MoleculeResult(
         id=id,
         status=status,
         messages=tuple(notes),
         parent_smiles=parent_smiles,
-        sites=_renumbered(mol, sites),
+        sites=renumbered,
         macro_pka=model.macro_pka,
         ph_states=states,
     )
     return Annotated(result, mol, sites)
 
 
+#: any carbon atom
+_CARBON = Chem.MolFromSmarts("[#6]")
+
+
 def _with_interactions(sites: tuple[Site, ...], model: MicrostateModel) -> tuple[Site, ...]:
     """Report each site at its titration midpoint; the shift is a term of its own."""
+    if len(sites) < 2:  # no other site to shift it
+        return sites
     apparent = model.titration_pka([s.kind for s in sites], [s.pka for s in sites])
     out = []
     for site, value in zip(sites, apparent, strict=True):
@@ -156,19 +174,51 @@ def _with_interactions(sites: tuple[Site, ...], model: MicrostateModel) -> tuple
 
 def _renumbered(mol: Chem.Mol, sites: tuple[Site, ...]) -> tuple[Site, ...]:
     """Atom indices as in the molecule RDKit parses from ``parent_smiles`` (call after MolToSmiles)."""
+    if not sites:
+        return sites
     order = mol.GetProp("_smilesAtomOutputOrder").strip("[]").rstrip(",").split(",")
-    position = {int(original): k for k, original in enumerate(order)}
-    return tuple(replace(s, atom=position[s.atom]) for s in sites)
+    return tuple(_on_atom(s, order.index(str(s.atom))) for s in sites)
 
 
-def _ph_state(
-    mol: Chem.Mol,
-    sites: tuple[Site, ...],
-    model: MicrostateModel,
-    ph: float,
-    settings: Settings,
-    cache: dict,
-) -> PhState:
+def _on_atom(site: Site, atom: int) -> Site:
+    """``replace(site, atom=atom)`` without its generic machinery, which took twice as long."""
+    return Site(atom, site.kind, site.group, site.category, site.pka, site.pka_sd, site.terms)
+
+
+class _SpeciesTable:
+    """What every pH of one molecule shares: symmetry keys and species SMILES per microstate.
+
+    The reference microstate (acids protonated, bases neutral) is the parent itself,
+    so its SMILES is the parent's and is not built again. Other species are written
+    from ``mol`` edited in place (see SpeciesSmiles).
+    """
+
+    def __init__(self, mol: Chem.Mol, sites: tuple[Site, ...], model: MicrostateModel, parent_smiles: str) -> None:
+        self._mol = mol
+        self._sites = sites
+        self._model = model
+        self._ranks: list[int] | None = None
+        self._keys: dict[int, tuple] = {}
+        self._smiles: dict[tuple[bool, ...], str] = {tuple(s.kind == "acid" for s in sites): parent_smiles}
+        self._write = SpeciesSmiles(mol, sites)
+
+    def key(self, state: int) -> tuple:
+        """Equal for microstates that differ only by which symmetry-equivalent site holds a proton."""
+        key = self._keys.get(state)
+        if key is None:
+            if self._ranks is None:
+                self._ranks = _site_symmetry(self._mol, self._sites)
+            key = self._keys[state] = tuple(sorted(zip(self._ranks, self._model.pattern(state))))
+        return key
+
+    def smiles(self, pattern: tuple[bool, ...]) -> str:
+        smiles = self._smiles.get(pattern)
+        if smiles is None:
+            smiles = self._smiles[pattern] = self._write(pattern)
+        return smiles
+
+
+def _ph_state(species: _SpeciesTable, model: MicrostateModel, ph: float, settings: Settings) -> PhState:
     """Species at one pH: microstates merged when they are the same molecule.
 
     Microstates that differ only by which of several symmetry-equivalent sites
@@ -176,39 +226,38 @@ def _ph_state(
     the symmetry classes of their protonated sites first, so structures are built
     only for groups that are kept; a group of two or more is checked by SMILES.
     """
-    fractions = model.fractions(ph)
-    charge_mean = float((fractions * model.charges).sum())
-    order = np.argsort(-fractions, kind="stable")
-    ranks = cache.get("ranks")
-    if ranks is None:
-        ranks = cache["ranks"] = _site_symmetry(mol, sites)
+    populations = model.populations(ph, max(_STRUCTURE_BUDGET, settings.max_species))
     negligible = settings.min_fraction * 1e-3
-    groups: dict[tuple, list[int]] = {}
-    for k in order[: max(_STRUCTURE_BUDGET, settings.max_species)]:
-        if fractions[k] < negligible and groups:
+    groups: dict[tuple, list[tuple[int, float]]] = {}
+    for k, fraction in populations.ranked:
+        if fraction < negligible and groups:
             break
-        pattern = model.protonated[k]
-        key = tuple(sorted(zip(ranks, pattern.tolist())))
-        groups.setdefault(key, []).append(int(k))
+        groups.setdefault(species.key(k), []).append((k, fraction))
     merged: dict[str, list] = {}
-    for members in sorted(groups.values(), key=lambda ks: -sum(fractions[k] for k in ks)):
-        total = sum(float(fractions[k]) for k in members)
+    for members in sorted(groups.values(), key=_by_total):
+        total = sum(fraction for _, fraction in members)
         if merged and total < settings.min_fraction:
             break
-        for k in members:
-            pattern = model.protonated[k]
-            smi = cache.get(pattern.tobytes())
-            if smi is None:
-                smi = cache[pattern.tobytes()] = species_smiles(mol, sites, tuple(pattern.tolist()))
-            entry = merged.setdefault(smi, [0.0, int(model.charges[k]), tuple(pattern.tolist())])
-            entry[0] += float(fractions[k])
+        for k, fraction in members:
+            pattern = model.pattern(k)
+            entry = merged.setdefault(species.smiles(pattern), [0.0, model.charge(k), pattern])
+            entry[0] += fraction
     ranked = sorted(merged.items(), key=lambda kv: -kv[1][0])
     kept = [
         Species(smi, charge, round(f, 6), pattern)
         for i, (smi, (f, charge, pattern)) in enumerate(ranked)
         if i == 0 or f >= settings.min_fraction
     ][: settings.max_species]
-    return PhState(ph=ph, charge_mean=round(charge_mean, 4), species=tuple(kept))
+    return PhState(ph=ph, charge_mean=round(populations.charge_mean, 4), species=tuple(kept))
+
+
+def _by_total(members: list[tuple[int, float]]) -> float:
+    """Sort key, most abundant group first. Added one by one, left to right, as numpy
+    scalars were before (Python 3.12's sum() of floats compensates rounding)."""
+    total = 0.0
+    for _, fraction in members:
+        total += fraction
+    return -total
 
 
 def _site_symmetry(mol: Chem.Mol, sites: tuple[Site, ...]) -> list[int]:
@@ -219,24 +268,28 @@ def _site_symmetry(mol: Chem.Mol, sites: tuple[Site, ...]) -> list[int]:
     return [classes[s.atom] for s in sites]
 
 
-def _site_distances(mol: Chem.Mol, atoms: list[int]) -> tuple[np.ndarray, np.ndarray]:
+def _site_distances(mol: Chem.Mol, atoms: list[int]) -> tuple[list[list[int]], list[list[int]]]:
     """Bond counts between site atoms, and the other way round a shared ring (0 if none).
 
     A shortest-path search per pair is far cheaper than the full distance matrix
     for the handful of sites a molecule has.
     """
     n = len(atoms)
-    dist = np.zeros((n, n), dtype=int)
-    second = np.zeros((n, n), dtype=int)
+    dist = [[0] * n for _ in range(n)]
+    second = [[0] * n for _ in range(n)]
     if n < 2:
         return dist, second
-    rings = mol.GetRingInfo().AtomRings()
+    ring_info = mol.GetRingInfo()
+    in_ring = [ring_info.NumAtomRings(a) > 0 for a in atoms]
+    rings = ring_info.AtomRings() if sum(in_ring) > 1 else ()
     for i in range(n):
         for j in range(i + 1, n):
             a, b = atoms[i], atoms[j]
             d = len(Chem.GetShortestPath(mol, a, b)) - 1 if a != b else 0
-            dist[i, j] = dist[j, i] = d
+            dist[i][j] = dist[j][i] = d
+            if not (in_ring[i] and in_ring[j]):
+                continue
             shared = [len(r) for r in rings if a in r and b in r]
             if shared:
-                second[i, j] = second[j, i] = min(shared) - d
+                second[i][j] = second[j][i] = min(shared) - d
     return dist, second

@@ -30,6 +30,8 @@ def _stray_character(text: str) -> str | None:
     """RDKit stops reading at a space, a NUL or some non-ASCII bytes and returns the
     part before it, so 'CC(=O)O junk' would pass as acetic acid. SMILES is printable
     ASCII; the one thing allowed after a space is a CXSMILES block ``|...|``."""
+    if text.isascii() and text.isprintable() and " " not in text:
+        return None  # the common case, checked in C: every character is in '!'..'~'
     for position, char in enumerate(text, start=1):
         if char.isspace():
             extension = text[position:].strip()

@@ -5,6 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from rdkit import Chem
+from rdkit.Chem import rdqueries
 from rdkit.Chem.MolStandardize import rdMolStandardize
 
 #: elements the group and substituent tables are written for
@@ -25,12 +26,16 @@ class Parent:
     warning: bool
 
 
-def parent_of(mol: Chem.Mol, *, keep_largest_fragment: bool = True, neutralize: bool = True) -> Parent:
+def parent_of(
+    mol: Chem.Mol, *, keep_largest_fragment: bool = True, neutralize: bool = True, copy: bool = True
+) -> Parent:
     """Largest organic fragment, neutralised where a charge only reflects a salt form.
 
     Stereochemistry, isotopes and coordinates are kept. Permanent charges
     (quaternary N, N-oxides as drawn) stay. Raises RecordError for records
     Ionotate cannot treat (radicals, metals bonded in the parent, no heavy atoms).
+    ``mol`` is not modified; with ``copy=False`` it may be, and may become the
+    parent: for a caller that made ``mol`` itself, as the copy costs more than the checks.
     """
     messages: list[str] = []
     warning = False
@@ -51,7 +56,7 @@ def parent_of(mol: Chem.Mol, *, keep_largest_fragment: bool = True, neutralize: 
         messages.append(f"removed {len(dropped)} fragment(s): {names}")
         mol = kept
         scan = _scan(mol)
-    else:
+    elif copy:
         mol = Chem.Mol(mol)
     if scan.unsupported:
         raise RecordError(f"unsupported element(s) in the parent: {', '.join(scan.unsupported)}")
@@ -60,20 +65,20 @@ def parent_of(mol: Chem.Mol, *, keep_largest_fragment: bool = True, neutralize: 
     if scan.hydrogens:
         exchangeable = [a for a in mol.GetAtoms() if _exchangeable_isotope(a)]
         for atom in exchangeable:
-            atom.SetIsotope(0)  # mol is a copy or a new fragment here, never the input
+            atom.SetIsotope(0)  # a copy, a new fragment, or a molecule the caller lets go
         if exchangeable:
             messages.append(
                 f"replaced {len(exchangeable)} hydrogen isotope(s) on N/O/S by H: they exchange with water"
             )
         mol = Chem.RemoveHs(mol, sanitize=True)
     if neutralize and scan.charged:
-        before = sum(1 for a in mol.GetAtoms() if a.GetFormalCharge())
+        before = len(mol.GetAtomsMatchingQuery(_CHARGED))
         uncharged = _UNCHARGER.uncharge(mol)
         if Chem.SanitizeMol(uncharged, catchErrors=True) == Chem.SanitizeFlags.SANITIZE_NONE:
             mol = uncharged
         else:  # e.g. PF6-: the neutral form would break a valence rule
             messages.append("kept the drawn charges: the neutral form is not a valid structure")
-        after = sum(1 for a in mol.GetAtoms() if a.GetFormalCharge())
+        after = len(mol.GetAtomsMatchingQuery(_CHARGED))
         if after < before:
             messages.append(f"neutralised {before - after} charged atom(s)")
     heavy = mol.GetNumHeavyAtoms()
@@ -96,10 +101,14 @@ class _Scan:
 
 
 def _scan(mol: Chem.Mol) -> _Scan:
-    """One pass over the atoms for every check, since atom iteration is the slow part."""
+    """Every check in one pass, over only the atoms some check is about.
+
+    Atom iteration from Python is the slow part, and most molecules have no such
+    atom: one query (``_NOTABLE``) finds them in RDKit.
+    """
     dummy = hydrogens = charged = radical = False
     unsupported: set[str] = set()
-    for atom in mol.GetAtoms():
+    for atom in mol.GetAtomsMatchingQuery(_NOTABLE):
         z = atom.GetAtomicNum()
         dummy |= z == 0
         hydrogens |= z == 1
@@ -108,6 +117,28 @@ def _scan(mol: Chem.Mol) -> _Scan:
         if z and z not in ORGANIC:
             unsupported.add(atom.GetSymbol())
     return _Scan(dummy, hydrogens, charged, radical, tuple(sorted(unsupported)))
+
+
+def _notable_atoms() -> Chem.Atom:
+    """Query for every atom that may set a _Scan flag: charged, radical, or outside B..F.
+
+    Outside B..F covers dummies, H and every element not in ORGANIC (which holds all of
+    B..F); the organic ones above F (P, S, halogens) are few per molecule and sorted
+    out in Python. One flat query: a nested one listing ORGANIC element by element took
+    five times longer.
+    """
+    query = rdqueries.AtomNumLessQueryAtom(5)
+    for extra in (
+        rdqueries.AtomNumGreaterQueryAtom(9),
+        rdqueries.FormalChargeEqualsQueryAtom(0, negate=True),
+        rdqueries.NumRadicalElectronsGreaterQueryAtom(0),
+    ):
+        query.ExpandQuery(extra, Chem.CompositeQueryType.COMPOSITE_OR)
+    return query
+
+
+_NOTABLE = _notable_atoms()
+_CHARGED = rdqueries.FormalChargeEqualsQueryAtom(0, negate=True)
 
 
 def _exchangeable_isotope(atom: Chem.Atom) -> bool:

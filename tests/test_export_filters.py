@@ -7,6 +7,7 @@ checked against these hand expectations, not against the engine's numbers.
 
 from __future__ import annotations
 
+from functools import partial
 from pathlib import Path
 
 import polars as pl
@@ -16,6 +17,7 @@ import pytest
 from annotate import Settings, annotate_smiles
 from annotate.export.filters import FilterSpec, apply_filters, filter_expression, ionization_class
 from annotate.io.schema import annotation_table, read_run_metadata, run_metadata
+from annotate.io.tables import parquet_batches
 
 LIBRARY = {
     "acetic_acid": "CC(=O)O",  # pKa 4.76 (from memory)
@@ -150,3 +152,25 @@ def test_bad_specs_are_refused() -> None:
 )
 def test_ionization_class(parent: str, sites: list[int], dominant: str, expected: str) -> None:
     assert ionization_class(parent, sites, dominant) == expected
+
+
+def test_filters_read_in_small_batches_write_the_same_rows(
+    annotated: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    specs = list(EXPECTED)
+    whole = apply_filters(annotated, specs, tmp_path / "whole")
+    monkeypatch.setattr("annotate.export.filters.parquet_batches", partial(parquet_batches, batch_rows=2))
+    assert apply_filters(annotated, specs, tmp_path / "batched") == whole
+    for spec in specs:
+        one, batched = (pq.read_table(tmp_path / d / f"{spec.name}.parquet") for d in ("whole", "batched"))
+        assert batched.equals(one, check_metadata=True), spec.name
+
+
+def test_uncomputed_ph_seen_only_after_writing_still_leaves_no_file(
+    annotated: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    monkeypatch.setattr("annotate.export.filters.parquet_batches", partial(parquet_batches, batch_rows=2))
+    specs = [FilterSpec("fine", ph=7.4), FilterSpec("x", ph=5.0)]
+    with pytest.raises(ValueError, match="pH 5.0 was not computed"):
+        apply_filters(annotated, specs, tmp_path)
+    assert not any(tmp_path.iterdir())

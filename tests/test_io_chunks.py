@@ -10,9 +10,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from annotate.io.chunks import _rebatch, iter_chunks, text_chunk
+from annotate.io.chunks import _rebatch, _text_chunks, iter_chunks, text_chunk
 from annotate.io.library import LibrarySpec
 from annotate.io.records import TextRecord
+from annotate.io.schema import CHUNK_SCHEMA
 
 
 def sizes_and_starts(spec: LibrarySpec, chunk_size: int) -> list[tuple[int, int]]:
@@ -92,3 +93,50 @@ def test_compressed_table_is_refused_before_reading(tmp_path: Path) -> None:
     path.write_bytes(b"not even gzip")
     with pytest.raises(ValueError, match="gzip is supported for SDF and SMILES files only"):
         list(iter_chunks(LibrarySpec(name="e", path=path), chunk_size=5))
+
+
+def test_text_chunk_built_in_pieces_equals_one_piece(monkeypatch: pytest.MonkeyPatch, tmp_path: Path) -> None:
+    # properties first seen in later pieces still come after earlier ones, nulls where a record lacks one
+    titles = [f"m{i}" if i % 3 else "" for i in range(7)]
+    properties = [{"p": "1"}, {}, {"q": "2"}, {"p": "3", "r": "4"}, {}, {"q": "5"}, {"s": "6"}]
+    path = tmp_path / "lib.sdf"
+    block = "\n  test\n\n  1  0  0  0  0  0  0  0  0  0999 V2000\n    0.0000    0.0000    0.0000 C   0  0\nM  END\n"
+    path.write_text(
+        "".join(
+            t + block + "".join(f"> <{k}>\n{v}\n\n" for k, v in p.items()) + "$$$$\n"
+            for t, p in zip(titles, properties, strict=True)
+        )
+    )
+    spec = LibrarySpec(name="lib", path=path)
+    whole = list(iter_chunks(spec, chunk_size=5))
+    monkeypatch.setattr("annotate.io.chunks.PIECE_RECORDS", 2)
+    pieces = list(iter_chunks(spec, chunk_size=5))
+    assert [c.num_rows for c in pieces] == [5, 2]
+    for one, built in zip(whole, pieces, strict=True):
+        assert built.equals(one)
+    assert pieces[0].schema.names[-3:] == ["p", "q", "r"]
+    assert pieces[0].column("id").to_pylist() == ["lib:0", "m1", "m2", "lib:3", "m4"]
+
+
+def test_properties_that_collide_in_different_pieces_are_refused(monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.setattr("annotate.io.chunks.PIECE_RECORDS", 1)
+    records = [TextRecord(text="x", properties={"id": "1"}), TextRecord(text="y", properties={"input_id": "2"})]
+    spec = LibrarySpec(name="lib", path=Path("unused.sdf"))
+    with pytest.raises(ValueError, match="'id' and 'input_id' would both be written as 'input_id'"):
+        list(_text_chunks(records, spec=spec, chunk_size=10))
+
+
+def test_property_names_that_are_empty_or_reserved_keep_their_own_columns() -> None:
+    records = [TextRecord(text="C", title=" t ", properties={"": "x", "record": "y"}), TextRecord(text=None, error="e")]
+    table = text_chunk(records, first_index=5, library="lib")
+    assert table.schema.names == [*CHUNK_SCHEMA.names, "", "input_record"]
+    assert table.to_pylist()[0] == {
+        "input_index": 5,
+        "id": "t",
+        "record": "C",
+        "read_error": None,
+        "read_warning": None,
+        "": "x",
+        "input_record": "y",
+    }
+    assert table.column("id").to_pylist() == ["t", "lib:6"]

@@ -14,6 +14,7 @@ from annotate.io.chunks import iter_chunks
 from annotate.io.library import LibrarySpec
 from annotate.io.records import NO_MOLBLOCK_END
 from annotate.io.schema import CHUNK_SCHEMA
+from annotate.io.tables import parquet_batches
 
 
 def read_all(spec: LibrarySpec, chunk_size: int = 1000) -> pa.Table:
@@ -141,3 +142,14 @@ def test_polars_reads_chunk_tables(tmp_path: Path) -> None:
     path.write_text("smiles\nCCO\n")
     frame = pl.from_arrow(read_all(LibrarySpec(name="t", path=path)))
     assert frame.row(0, named=True)["record"] == "CCO"
+
+
+def test_parquet_batches_read_every_row_in_order_in_small_batches(tmp_path: Path) -> None:
+    path = tmp_path / "t.parquet"
+    table = pa.table({"i": pa.array(range(10), pa.int64()), "s": pa.array(list("abcdefghij"), pa.large_string())})
+    pq.write_table(table, path, row_group_size=4)
+    batches = list(parquet_batches(path, batch_rows=3))
+    assert all(b.num_rows <= 3 for b in batches) and len(batches) >= 4
+    assert pa.Table.from_batches(batches).equals(table)
+    only = list(parquet_batches(path, columns=["s"], batch_rows=3))
+    assert only[0].schema.names == ["s"] and only[0].schema.field("s").type == pa.large_string()

@@ -10,7 +10,9 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
+import numpy as np
 import polars as pl
+import pyarrow as pa
 import pytest
 import yaml
 from rdkit import Chem
@@ -18,9 +20,8 @@ from rdkit import Chem
 from annotate.export.filters import ION_CLASSES, FilterSpec
 from annotate.io.library import LibrarySpec
 from annotate.pipeline import annotate_chunk, gather_annotations, split_library
-from annotate.pipeline import annotate_chunk
 from annotate.pipeline.docking import DockingOptions
-from annotate.pipeline.filtering import filter_library, filter_specs, ph_values_with_filters
+from annotate.pipeline.filtering import SortedPositions, filter_library, filter_specs, ph_values_with_filters
 from annotate.qc.filters import FILTER_COUNTS_SCHEMA, read_filter_counts
 from annotate.qc.report import OUTPUTS, write_qc
 from annotate.settings import Settings
@@ -149,3 +150,38 @@ def test_filter_schema_matches_the_package() -> None:
     for key, spec in item["properties"].items():
         assert "description" in spec, key
         assert "default" in spec or key in item["required"], key
+
+
+def test_structures_read_in_small_batches_are_the_same(
+    library: dict[str, Path], tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    specs = filter_specs(FILTERS)
+    args = {"specs": specs, "qc_table": tmp_path / "f.tsv"}
+    filter_library(library["annotated"], [library["docking"]], outdir=tmp_path / "whole", **args)
+    monkeypatch.setattr("annotate.pipeline.filtering._DOCKING_BATCH_ROWS", 1)
+    filter_library(library["annotated"], [library["docking"]], outdir=tmp_path / "batched", **args)
+    for spec in specs:
+        name = f"{spec.name}.sdf"
+        assert (tmp_path / "batched" / name).read_text() == (tmp_path / "whole" / name).read_text(), name
+
+
+@pytest.mark.parametrize("seed", range(5))
+def test_sorted_positions_answer_like_a_set(seed: int) -> None:
+    rng = np.random.default_rng(seed)
+    kept = np.flatnonzero(rng.random(500) < rng.random())  # ascending, any density
+    cuts = np.sort(rng.integers(0, kept.size + 1, size=4))
+    stream = iter(pa.record_batch([pa.array(p, pa.int64())], names=["input_index"]) for p in np.split(kept, cuts))
+    positions = SortedPositions(stream)
+    asked = np.sort(rng.integers(0, 520, size=300))  # ascending with repeats, like docking rows
+    parts = np.split(asked, np.sort(rng.integers(0, 300, size=6)))
+    found = np.concatenate([positions.contains(part) for part in parts])
+    assert found.tolist() == [int(a) in set(kept.tolist()) for a in asked]
+
+
+def test_docking_rows_out_of_input_order_fail() -> None:
+    positions = SortedPositions(iter([pa.record_batch([pa.array([1, 2, 3], pa.int64())], names=["input_index"])]))
+    positions.contains(np.array([2, 2, 3]))
+    with pytest.raises(ValueError, match="not in input order"):
+        positions.contains(np.array([1]))
+    with pytest.raises(ValueError, match="not in input order"):
+        SortedPositions(iter(())).contains(np.array([4, 3]))

@@ -6,6 +6,7 @@ import json
 import math
 from pathlib import Path
 
+import numpy as np
 import polars as pl
 import pyarrow.parquet as pq
 import pytest
@@ -14,7 +15,7 @@ from polars.testing import assert_frame_equal
 from annotate.io.schema import annotation_table, output_schema, run_metadata
 from annotate.qc import tables
 from annotate.qc.plots import charge_figure, pka_figure, plot_qc
-from annotate.qc.report import OUTPUTS, write_qc
+from annotate.qc.report import OUTPUTS, TABLES, write_qc
 from annotate.results import MoleculeResult, PhState, Site, Species, Term
 from annotate.settings import Settings
 
@@ -184,3 +185,102 @@ def test_plot_qc_writes_png_files(tmp_path: Path) -> None:
     plot_qc(source, charge_plot=tmp_path / "c.png", pka_plot=tmp_path / "p.png")
     for name in ("c.png", "p.png"):
         assert (tmp_path / name).read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def many_results(n: int) -> list[MoleculeResult]:
+    """A library big enough for several batches, with repeated pKa values (as estimates repeat)."""
+    # the fourth site repeats the first group: more sites than molecules for it
+    groups = [("carboxylic acid", "acid"), ("amine", "base"), ("phenol", "acid"), ("carboxylic acid", "acid")]
+    results = []
+    for i in range(n):
+        if i % 11 == 5:
+            results.append(MoleculeResult(f"e{i}", "error", ("unparsable structure",)))
+            continue
+        sites = tuple(
+            site(group, kind, round(3.0 + ((i * 7 + k * 5) % 13) * 0.37, 2))
+            for k, (group, kind) in enumerate(groups[: i % 5])
+        )
+        charges = (i % 3 - 1, i % 2)
+        results.append(MoleculeResult(f"m{i}", "ok", (), "C", sites, (), states(*charges)))
+    return results
+
+
+def reference_tables(frame: pl.LazyFrame) -> dict[str, pl.DataFrame]:
+    """Independent oracle: the same tables as Polars' own aggregations over whole columns."""
+    annotated = frame.filter(pl.col("status") != "error")
+    sites = (
+        annotated.select("input_index", "sites").explode("sites").unnest("sites").filter(pl.col("group").is_not_null())
+    )
+    pka = pl.col("pka")
+    return {
+        "group_frequency": sites.group_by("group", "kind")
+        .agg(
+            pl.len().cast(pl.Int64).alias("n_sites"),
+            pl.col("input_index").n_unique().cast(pl.Int64).alias("n_molecules"),
+        )
+        .sort(["n_sites", "group", "kind"], descending=[True, False, False])
+        .collect(),
+        "pka_by_group": sites.group_by("group", "kind")
+        .agg(
+            pl.len().cast(pl.Int64).alias("n"),
+            pka.mean().alias("mean"),
+            pka.std().alias("sd"),
+            pka.min().alias("min"),
+            *(pka.quantile(q, interpolation="linear").alias(name) for name, q in tables._QUANTILES.items()),
+            pka.max().alias("max"),
+        )
+        .sort(["n", "group", "kind"], descending=[True, False, False])
+        .collect(),
+        "charge_by_ph": annotated.select("ph_states")
+        .explode("ph_states")
+        .unnest("ph_states")
+        .group_by("ph", "charge")
+        .agg(pl.len().cast(pl.Int64).alias("n"))
+        .with_columns((pl.col("n") / pl.col("n").sum().over("ph")).alias("fraction"))
+        .sort("ph", "charge")
+        .collect(),
+    }
+
+
+def test_tables_streamed_in_small_batches_equal_whole_column_aggregations(tmp_path: Path) -> None:
+    source = write_annotated(tmp_path / "annotated.parquet", many_results(200))
+    streamed = tables.compute(source, {**TABLES, "site_pkas": tables.site_pkas}, batch_rows=7)
+    expected = reference_tables(pl.scan_parquet(source))
+    assert_frame_equal(streamed["group_frequency"], expected["group_frequency"])
+    acid = streamed["group_frequency"].row(0, named=True)
+    assert acid["group"] == "carboxylic acid" and acid["n_sites"] > acid["n_molecules"]
+    assert_frame_equal(streamed["charge_by_ph"], expected["charge_by_ph"])
+    # counts, min, max and quantiles exactly; mean and sd are sums in another order (last bits)
+    assert_frame_equal(streamed["pka_by_group"], expected["pka_by_group"], check_exact=False, rel_tol=1e-12)
+    exact = ["group", "kind", "n", "min", *tables._QUANTILES, "max"]
+    assert_frame_equal(streamed["pka_by_group"].select(exact), expected["pka_by_group"].select(exact))
+    whole = {name: query(pl.scan_parquet(source)) for name, query in TABLES.items()}
+    for name, table in whole.items():
+        assert_frame_equal(streamed[name], table, check_exact=False, rel_tol=1e-12)
+    assert streamed["site_pkas"]["n"].sum() == expected["pka_by_group"]["n"].sum()
+
+
+@pytest.mark.parametrize("seed", range(5))
+def test_weighted_statistics_match_polars_on_the_expanded_values(seed: int) -> None:
+    rng = np.random.default_rng(seed)
+    values = np.round(rng.normal(7.0, 2.5, size=int(rng.integers(1, 300))), 1)
+    distinct, counts = np.unique(values, return_counts=True)
+    found = tables.weighted_statistics(distinct, counts)
+    column = pl.Series(values)
+    assert found["min"] == column.min() and found["max"] == column.max()
+    for name, q in tables._QUANTILES.items():
+        assert found[name] == column.quantile(q, interpolation="linear"), name
+    assert found["mean"] == pytest.approx(column.mean(), rel=1e-12)
+    if len(values) > 1:
+        assert found["sd"] == pytest.approx(column.std(), rel=1e-9)
+    else:
+        assert found["sd"] is None
+
+
+def test_pka_histograms_weigh_each_value_by_its_count(tmp_path: Path) -> None:
+    source = write_annotated(tmp_path / "annotated.parquet", many_results(60))
+    counted = tables.compute(source, {"pkas": tables.site_pkas})["pkas"]
+    fig = pka_figure(counted)
+    for ax in (a for a in fig.axes if a.get_visible()):
+        n = int(ax.get_title().rsplit("n=", 1)[1].rstrip(")"))
+        assert sum(p.get_height() for p in ax.patches) == n

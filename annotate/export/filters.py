@@ -10,6 +10,7 @@ from __future__ import annotations
 import json
 import os
 from collections.abc import Mapping, Sequence
+from contextlib import ExitStack
 from dataclasses import asdict, dataclass, field
 from pathlib import Path
 from typing import Literal
@@ -21,12 +22,12 @@ from rdkit import Chem
 
 from annotate.io.atomic import atomic_path
 from annotate.io.schema import META_PREFIX
+from annotate.io.tables import parquet_batches
 
 IonClass = Literal["neutral", "acid", "base", "zwitterion", "permanent"]
 ION_CLASSES: frozenset[str] = frozenset({"neutral", "acid", "base", "zwitterion", "permanent"})
 #: two pH values closer than this are the same configured pH (they come from one config)
 PH_TOLERANCE = 1e-6
-_BATCH_ROWS = 65_536
 
 
 @dataclass(frozen=True, slots=True)
@@ -151,30 +152,39 @@ def filter_expression(spec: FilterSpec) -> pl.Expr:
 def apply_filters(
     annotated_parquet: str | os.PathLike[str], specs: Sequence[FilterSpec], outdir: str | os.PathLike[str]
 ) -> dict[str, int]:
-    """Write ``{outdir}/{name}.parquet`` per filter (all columns, input order); returns kept counts."""
+    """Write ``{outdir}/{name}.parquet`` per filter (all columns, input order); returns kept counts.
+
+    One pass over the file, a batch at a time, every filter at once: memory is one
+    batch whatever the library's size, and the kept rows keep the source's exact
+    Arrow types. A filter at a pH that was never computed fails the whole call,
+    and then no file is written.
+    """
     names = [s.name for s in specs]
     if len(set(names)) != len(names):
         raise ValueError(f"filter names must be unique: {names}")
     source = Path(annotated_parquet)
-    _require_phs(source, specs)
     schema = pq.read_schema(source)
-    counts: dict[str, int] = {}
-    for spec in specs:
-        target = schema.with_metadata(_file_metadata(schema.metadata or {}, spec))
-        rows = pl.scan_parquet(source).filter(filter_expression(spec))
-        counts[spec.name] = _write(rows, Path(outdir) / f"{spec.name}.parquet", schema=target)
+    counts = dict.fromkeys(names, 0)
+    present: set[float] = set()
+    with ExitStack() as stack:
+        writers = [_writer(stack, Path(outdir) / f"{spec.name}.parquet", schema, spec) for spec in specs]
+        for batch in parquet_batches(source):
+            frame = pl.from_arrow(batch)
+            present.update(_computed_phs(frame))
+            masks = frame.select(filter_expression(spec).alias(str(k)) for k, spec in enumerate(specs))
+            for spec, writer, mask in zip(specs, writers, masks.iter_columns(), strict=True):
+                kept = batch.filter(mask.to_arrow())
+                if kept.num_rows:
+                    writer.write_batch(kept)
+                counts[spec.name] += kept.num_rows
+        _require_phs(present, specs)
     return counts
 
 
-def _write(rows: pl.LazyFrame, final: Path, *, schema: pa.Schema) -> int:
-    """Stream batches out in the source's exact Arrow types (Polars would widen strings and lists)."""
-    count = 0
-    with atomic_path(final) as tmp, pq.ParquetWriter(tmp, schema) as writer:
-        for batch in rows.collect_batches(chunk_size=_BATCH_ROWS):
-            table = batch.to_arrow().cast(schema)
-            writer.write_table(table)
-            count += table.num_rows
-    return count
+def _writer(stack: ExitStack, final: Path, schema: pa.Schema, spec: FilterSpec) -> pq.ParquetWriter:
+    """A Parquet writer on a temporary file that becomes ``final`` only if every filter succeeds."""
+    tmp = stack.enter_context(atomic_path(final))
+    return stack.enter_context(pq.ParquetWriter(tmp, schema.with_metadata(_file_metadata(schema.metadata or {}, spec))))
 
 
 def _file_metadata(source: Mapping[bytes, bytes], spec: FilterSpec) -> dict[str, str]:
@@ -184,15 +194,12 @@ def _file_metadata(source: Mapping[bytes, bytes], spec: FilterSpec) -> dict[str,
     return kept | {META_PREFIX + "filter": json.dumps(described, sort_keys=True)}
 
 
-def _require_phs(source: Path, specs: Sequence[FilterSpec]) -> None:
+def _computed_phs(frame: pl.DataFrame) -> list[float]:
+    return frame.select(pl.col("ph_states").explode().struct.field("ph").drop_nulls().unique()).to_series().to_list()
+
+
+def _require_phs(present: set[float], specs: Sequence[FilterSpec]) -> None:
     """A filter at a pH that was never computed would silently keep nothing."""
-    present = (
-        pl.scan_parquet(source)
-        .select(pl.col("ph_states").explode().struct.field("ph").drop_nulls().unique())
-        .collect(engine="streaming")
-        .to_series()
-        .to_list()
-    )
     if not present:
         return  # no annotated rows: every filter keeps nothing, which is correct
     for spec in specs:

@@ -2,8 +2,10 @@
 
 A chunk is an Arrow table of :data:`~annotate.io.schema.CHUNK_SCHEMA` (position,
 id, structure text, read error/warning) followed by the carried input columns.
-Only one chunk (plus one reader batch) is in memory at a time. An empty library
-still yields one empty, typed chunk so that its schema reaches the output.
+Only one chunk (plus one reader batch) is in memory at a time, as Arrow data: text
+records are converted a piece at a time, never held as Python objects for a whole
+chunk. An empty library still yields one empty, typed chunk so that its schema
+reaches the output.
 """
 
 from __future__ import annotations
@@ -20,6 +22,9 @@ from annotate.io.schema import CHUNK_SCHEMA, carried_names
 from annotate.io.sdf import iter_sdf
 from annotate.io.smi import iter_smi
 from annotate.io.tables import iter_table_batches, table_columns, table_schema
+
+#: text records turned into Arrow at a time; a chunk is the concatenation of such pieces
+PIECE_RECORDS = 1_000
 
 
 def record_kind(spec: LibrarySpec) -> RecordKind:
@@ -54,27 +59,62 @@ def iter_chunks(spec: LibrarySpec, *, chunk_size: int) -> Iterator[pa.Table]:
 def _text_chunks(records: Iterable[TextRecord], *, spec: LibrarySpec, chunk_size: int) -> Iterator[pa.Table]:
     iterator = iter(records)
     first = 0
-    while batch := list(islice(iterator, chunk_size)):
-        yield text_chunk(batch, first_index=first, library=spec.name)
-        first += len(batch)
+    while True:
+        pieces: list[pa.Table] = []
+        names: dict[str, None] = {}
+        for records_piece in _pieces(iterator, count=chunk_size):
+            names.update(dict.fromkeys(name for r in records_piece for name in r.properties))
+            pieces.append(text_chunk(records_piece, first_index=first + _rows(pieces), library=spec.name))
+        if not pieces:
+            return
+        carried_names(list(names))  # a clash must fail even when the two names sit in different pieces
+        chunk = pa.concat_tables(pieces, promote_options="default")  # properties stay first seen first
+        del pieces
+        first += chunk.num_rows
+        yield chunk
+
+
+def _pieces(iterator: Iterator[TextRecord], *, count: int) -> Iterator[list[TextRecord]]:
+    """Up to ``count`` records, :data:`PIECE_RECORDS` at a time.
+
+    A whole chunk of Python records costs about four times its text (measured on
+    SDF), so a chunk is built from pieces turned into Arrow one after the other.
+    """
+    done = 0
+    while done < count and (records := list(islice(iterator, min(PIECE_RECORDS, count - done)))):
+        yield records
+        done += len(records)
+
+
+def _rows(tables: list[pa.Table]) -> int:
+    return sum(t.num_rows for t in tables)
 
 
 def text_chunk(records: list[TextRecord], *, first_index: int, library: str) -> pa.Table:
-    """Chunk table of text records; properties become string columns, first seen first."""
+    """Chunk table of text records; properties become string columns, first seen first.
+
+    Built through Polars: pyarrow's conversion of Python lists imports pandas, 44 MB
+    that the split job has no other use for.
+    """
     names = list(dict.fromkeys(name for r in records for name in r.properties))
+    carried = carried_names(names)
     index = _positions(first_index, len(records))
-    titles = pa.chunked_array([pa.array([r.title for r in records], pa.string())])
-    core = {
-        "input_index": index.to_list(),
-        "id": _ids(titles, index=index, library=library).to_list(),
-        "record": [r.text for r in records],
-        "read_error": [r.error for r in records],
-        "read_warning": [r.warning for r in records],
-    }
-    columns = [pa.array(core[f.name], type=f.type) for f in CHUNK_SCHEMA]
-    columns += [pa.array([r.properties.get(n) for r in records], type=pa.string()) for n in names]
-    fields = [*CHUNK_SCHEMA, *(pa.field(n, pa.string()) for n in carried_names(names))]
-    return pa.Table.from_arrays(columns, schema=pa.schema(fields))
+    columns = [
+        index,
+        _ids(_texts("given", [r.title for r in records]), index=index, library=library),
+        _texts("record", [r.text for r in records]),
+        _texts("read_error", [r.error for r in records]),
+        _texts("read_warning", [r.warning for r in records]),
+        *(_texts(out, [r.properties.get(name) for r in records]) for name, out in zip(names, carried, strict=True)),
+    ]
+    fields = [*CHUNK_SCHEMA, *(pa.field(n, pa.string()) for n in carried)]
+    # column by column: a DataFrame would rename a property with an empty name
+    arrays = [series.to_arrow() for series in columns]
+    return pa.Table.from_arrays(arrays, names=[f.name for f in fields]).cast(pa.schema(fields))
+
+
+def _texts(name: str, values: list[str | None]) -> pl.Series:
+    return pl.Series(name, values, dtype=pl.String)
 
 
 def _positions(first_index: int, n: int) -> pl.Series:
@@ -154,7 +194,7 @@ def is_text_type(kind: pa.DataType) -> bool:
     return pa.types.is_string(kind) or pa.types.is_large_string(kind) or pa.types.is_string_view(kind)
 
 
-def _ids(column: pa.ChunkedArray | None, *, index: pl.Series, library: str) -> pl.Series:
+def _ids(column: pa.ChunkedArray | pl.Series | None, *, index: pl.Series, library: str) -> pl.Series:
     """The input id as text; a missing or blank one falls back to ``<library>:<index>``."""
     given = (
         pl.Series("given", column).cast(pl.String, strict=False).str.strip_chars()

@@ -20,7 +20,7 @@ import pyarrow.parquet as pq
 from annotate.io.chunks import is_text_type
 from annotate.io.library import LibrarySpec, find_column, structure_column
 from annotate.io.schema import carried_names
-from annotate.io.tables import table_columns, table_schema
+from annotate.io.tables import parquet_batches, table_columns, table_schema
 from annotate.pipeline.config import nan_settings
 from annotate.pipeline.manifest import MANIFEST_NAME
 from annotate.ruleset import load_ruleset
@@ -139,11 +139,11 @@ def _gzip_problem(path: Path, *, where: str, read_whole: bool) -> str | None:
 
 
 def _parquet_data_problem(path: Path, *, where: str) -> str | None:
-    """Decode every page once: a damaged page is only found by reading it."""
+    """Decode every page once: a damaged page is only found by reading it (in small batches, so
+    Snakemake's own process does not grow with the file)."""
     try:
-        with pq.ParquetFile(path) as source:
-            for _ in source.iter_batches(batch_size=65_536):
-                pass
+        for _ in parquet_batches(path):
+            pass
     except (OSError, pa.ArrowException) as exc:
         return f"{where} is a corrupt Parquet file ({exc})"
     return None

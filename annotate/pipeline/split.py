@@ -40,6 +40,7 @@ def split_library(spec: LibrarySpec, out_dir: str | Path, *, chunk_size: int) ->
             _write_chunk(chunk.replace_schema_metadata(metadata), tmp / f"{entry.name}.parquet")
             entries.append(entry)
             first += chunk.num_rows
+            del chunk  # else it stays alive while the next one is built: two chunks in memory
         manifest = Manifest(
             library=spec.name,
             source=spec.source(),

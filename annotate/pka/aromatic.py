@@ -17,21 +17,32 @@ from rdkit import Chem
 from dataclasses import replace
 
 from annotate.pka.contributions import TERM_RELATIVE_SD, UNKNOWN_SD, Contribution
+from annotate.pka.graph import MolGraph
 from annotate.pka.inductive import group_sigma_star
 from annotate.pka.substituents import Substituent, SubstituentIndex, SubstituentTable
 from annotate.sites.rules import GroupRule
 
-_NAMES_6 = {1: "ortho", 2: "meta", 3: "para"}
-_NAMES_5 = {1: "adjacent", 2: "next-but-one"}
+#: (distance in bonds, position name) by ring size and |index difference| along the ring
+_POSITIONS = {
+    6: {1: (1, "ortho"), 5: (1, "ortho"), 2: (2, "meta"), 4: (2, "meta"), 3: (3, "para")},
+    5: {1: (1, "adjacent"), 4: (1, "adjacent"), 2: (2, "next-but-one"), 3: (2, "next-but-one")},
+}
 
 
-def site_ring(mol: Chem.Mol, anchor: int) -> tuple[int, ...] | None:
-    """The aromatic ring carrying the anchor, six-membered preferred."""
-    rings = [r for r in mol.GetRingInfo().AtomRings() if anchor in r and len(r) in (5, 6)]
-    rings = [r for r in rings if all(mol.GetAtomWithIdx(i).GetIsAromatic() for i in r)]
-    if not rings:
-        return None
-    return sorted(rings, key=lambda r: (len(r) != 6, len(r)))[0]
+def site_ring(graph: MolGraph, anchor: int) -> tuple[int, ...] | None:
+    """The aromatic ring carrying the anchor: the first six-membered one in ring
+    order, else the first five-membered one. Candidates are tried in that order,
+    so the atoms of rings not chosen are rarely read."""
+    rings = [r for r in graph.rings if anchor in r and len(r) in (5, 6)]
+    rings.sort(key=lambda r: len(r) != 6)  # stable: ring order kept within each size
+    atoms = graph.atoms
+    for ring in rings:
+        for i in ring:
+            if not atoms[i][1]:  # (element, aromatic, degree)
+                break
+        else:
+            return ring
+    return None
 
 
 def hammett_contributions(
@@ -42,38 +53,37 @@ def hammett_contributions(
     index: SubstituentIndex,
     table: SubstituentTable,
 ) -> list[Contribution]:
-    ring = site_ring(mol, anchor)
+    graph = index.graph
+    ring = site_ring(graph, anchor)
     if ring is None:
         return [Contribution("anchor not in an aromatic ring: no Hammett terms", 0.0, UNKNOWN_SD)]
-    size = len(ring)
-    names = _NAMES_6 if size == 6 else _NAMES_5
+    positions = _POSITIONS[len(ring)]
     start = ring.index(anchor)
     ring_set = set(ring)
+    atoms = graph.atoms
     out: list[Contribution] = []
     for offset, p in enumerate(ring):
         if p == anchor:
             continue
-        steps = abs(offset - start)
-        distance = min(steps, size - steps)
-        position = names[distance]
-        atom = mol.GetAtomWithIdx(p)
-        if p not in group and _is_pyridine_like(atom):
+        distance, position = positions[abs(offset - start)]
+        element, _, degree = atoms[p]
+        if element == 7 and p not in group and _is_pyridine_like(graph, p):
             out.append(_term(rule, table.ring_aza, "ring N", position, distance))
-        for nbr in atom.GetNeighbors():
-            s = nbr.GetIdx()
+        if degree == 2:
+            continue  # both bonds in the ring: nothing hangs here
+        for s in graph.bonded[p][0]:
             if s in ring_set or s in group:
                 continue
-            bond = mol.GetBondBetweenAtoms(p, s)
-            if bond.IsInRing() and nbr.GetIsAromatic() and _fused(mol, p, s, ring_set):
+            if _fused(graph, p, s, ring_set):
                 out.append(_term(rule, table.ring_fusion, "fused ring", position, distance))
                 continue
-            hit = index.lookup(s, excluded=group | {p})
+            hit = index.lookup(s, p, group)
             if hit is None:
-                label = f"unlisted substituent {nbr.GetSymbol()} {position}"
+                label = f"unlisted substituent {graph.rdkit_atom(s).GetSymbol()} {position}"
                 out.append(Contribution(label, 0.0, UNKNOWN_SD))
                 continue
             if hit.sigma_star is None and hit.root_element == 6:
-                hit = _substituted_alkyl(mol, s, p, group, index, hit)
+                hit = _substituted_alkyl(s, p, group, index, hit)
             out.append(_term(rule, hit, hit.name, position, distance))
     return out
 
@@ -86,9 +96,9 @@ SIGMA_PER_SIGMA_STAR = 0.17
 
 
 def _substituted_alkyl(
-    mol: Chem.Mol, root: int, ring_atom: int, group: frozenset[int], index: SubstituentIndex, alkyl: Substituent
+    root: int, ring_atom: int, group: frozenset[int], index: SubstituentIndex, alkyl: Substituent
 ) -> Substituent:
-    star = group_sigma_star(mol, root, ring_atom, group, index)
+    star = group_sigma_star(root, ring_atom, group, index)
     if abs(star) < 0.05:
         return alkyl
     shift = SIGMA_PER_SIGMA_STAR * star
@@ -102,16 +112,22 @@ def _substituted_alkyl(
     )
 
 
-def _is_pyridine_like(atom: Chem.Atom) -> bool:
-    return atom.GetAtomicNum() == 7 and atom.GetIsAromatic() and atom.GetDegree() == 2 and atom.GetTotalNumHs() == 0
+def _is_pyridine_like(graph: MolGraph, index: int) -> bool:
+    element, aromatic, degree = graph.atoms[index]
+    if element != 7 or not aromatic or degree != 2:
+        return False
+    return graph.rdkit_atom(index).GetTotalNumHs() == 0
 
 
-def _fused(mol: Chem.Mol, p: int, s: int, ring: set[int]) -> bool:
-    """True when the p-s bond belongs to an aromatic ring sharing a bond with ``ring``."""
-    for other in mol.GetRingInfo().AtomRings():
+def _fused(graph: MolGraph, p: int, s: int, ring: set[int]) -> bool:
+    """True when ``s`` is aromatic and the p-s bond belongs to a ring sharing a
+    bond with ``ring``. The ring test goes first: it needs no RDKit call."""
+    for other in graph.rings:
         if p in other and s in other and len(ring.intersection(other)) >= 2:
-            return True
-    return False
+            break
+    else:
+        return False
+    return graph.atoms[s][1] and graph.mol.GetBondBetweenAtoms(p, s).IsInRing()
 
 
 def _term(rule: GroupRule, sub: Substituent, name: str, position: str, distance: int) -> Contribution:

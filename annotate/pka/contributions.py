@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Iterable
-from dataclasses import dataclass
+from typing import NamedTuple
 
 #: share of a term's size taken as its uncertainty; substituent constants transfer
 #: between series only approximately (common practice: 10-20 %)
@@ -12,8 +12,11 @@ TERM_RELATIVE_SD = 0.15
 UNKNOWN_SD = 0.3
 
 
-@dataclass(frozen=True, slots=True)
-class Contribution:
+# Both records are NamedTuples rather than frozen dataclasses: several are built
+# per site, and a frozen dataclass costs about three times as much to create.
+
+
+class Contribution(NamedTuple):
     """One substituent's pKa shift; equal labels are summed and compared with the parent."""
 
     label: str
@@ -21,8 +24,7 @@ class Contribution:
     sd: float
 
 
-@dataclass(frozen=True, slots=True)
-class NetTerm:
+class NetTerm(NamedTuple):
     label: str
     value: float
     sd: float
@@ -35,20 +37,24 @@ def net_of_parent(mol: Iterable[Contribution], parent: Iterable[Contribution]) -
     already carries (e.g. ethanol's two carbinol H) must not be counted twice.
     """
     totals: dict[str, list[float]] = {}
-    for c in mol:
-        t = totals.setdefault(c.label, [0.0, 0.0, 0.0, 0.0])
-        t[0] += c.value
+    for label, value, sd in mol:
+        t = totals.get(label)
+        if t is None:
+            t = totals[label] = [0.0, 0, 0.0, 0]
+        t[0] += value
         t[1] += 1
-        t[2] += c.sd**2
-    for c in parent:
-        t = totals.setdefault(c.label, [0.0, 0.0, 0.0, 0.0])
-        t[0] -= c.value
+        t[2] += sd**2
+    for label, value, _ in parent:
+        t = totals.get(label)
+        if t is None:
+            t = totals[label] = [0.0, 0, 0.0, 0]
+        t[0] -= value
         t[3] += 1
     terms = []
     for label, (value, n_mol, var, n_parent) in totals.items():
         if abs(value) < 0.005:
             continue
-        count = int(n_mol - n_parent)
+        count = n_mol - n_parent
         shown = label if count == 1 else f"{label} x{count}"
         terms.append(NetTerm(shown, value, var**0.5))
     return terms

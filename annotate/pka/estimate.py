@@ -44,11 +44,16 @@ def estimate_site(
     """A Site whose pKa is exactly the sum of its listed terms."""
     rule = site.rule
     raw = substituent_contributions(mol, rule, site.match, table, index)
-    net = net_of_parent(raw, parent_terms)
     terms = [Term(f"{rule.name} (parent {rule.parent})", rule.pka)]
-    terms += [Term(t.label, round(t.value, 3)) for t in net]
-    pka = sum(t.value for t in terms)
-    sd = math.sqrt(rule.sd**2 + sum(t.sd**2 for t in net) + sum(c.sd**2 for c in raw if c.value == 0.0))
+    values = [rule.pka]
+    variances = []
+    for label, value, sd in net_of_parent(raw, parent_terms):
+        value = round(value, 3)
+        terms.append(Term(label, value))
+        values.append(value)
+        variances.append(sd**2)
+    pka = sum(values)
+    sd = math.sqrt(rule.sd**2 + sum(variances) + sum([c.sd**2 for c in raw if c.value == 0.0]))
     return Site(
         atom=site.atom,
         kind=rule.kind,

@@ -31,30 +31,26 @@ def taft_contributions(
     index: SubstituentIndex,
 ) -> list[Contribution]:
     """Each substituent's -rho* x sigma* x fall-off, plus the H atoms on the anchor."""
-    atom = mol.GetAtomWithIdx(anchor)
+    graph = index.graph
     out: list[Contribution] = []
-    n_h = atom.GetTotalNumHs()
+    n_h = graph.rdkit_atom(anchor).GetTotalNumHs()
     for _ in range(n_h):
         out.append(Contribution(f"H on anchor (sigma* {SIGMA_STAR_H:.2f})", -rho * SIGMA_STAR_H, 0.05))
-    for nbr in atom.GetNeighbors():
-        root = nbr.GetIdx()
+    for root in graph.bonded[anchor][0]:
         if root in group:
             continue
-        _walk(mol, root, anchor, group, rho, index, 1, 1.0, frozenset({anchor}), out)
+        _walk(root, anchor, group, rho, index, 1, 1.0, (anchor,), out)
     return out
 
 
-def group_sigma_star(
-    mol: Chem.Mol, root: int, came_from: int, group: frozenset[int], index: SubstituentIndex
-) -> float:
+def group_sigma_star(root: int, came_from: int, group: frozenset[int], index: SubstituentIndex) -> float:
     """sigma* of the group rooted at ``root`` (seen from ``came_from``), by the same walk."""
     out: list[Contribution] = []
-    _walk(mol, root, came_from, group, -1.0, index, 1, 1.0, frozenset({came_from}), out)
+    _walk(root, came_from, group, -1.0, index, 1, 1.0, (came_from,), out)
     return sum(c.value for c in out)
 
 
 def _walk(
-    mol: Chem.Mol,
     root: int,
     came_from: int,
     group: frozenset[int],
@@ -62,10 +58,11 @@ def _walk(
     index: SubstituentIndex,
     depth: int,
     weight: float,
-    visited: frozenset[int],
+    path: tuple[int, ...],
     out: list[Contribution],
 ) -> None:
-    hit = index.lookup(root, excluded=group | {came_from})
+    """Append the contributions of the group at ``root``; ``path`` is the atoms walked to reach it."""
+    hit = index.lookup(root, came_from, group)
     sigma_star = hit.inductive_sigma_star if hit is not None else None
     if sigma_star is not None:
         value = -rho * sigma_star * weight
@@ -73,15 +70,15 @@ def _walk(
             label = f"{hit.name} {_PLACE[depth]} (sigma* {sigma_star:.2f})"
             out.append(Contribution(label, value, TERM_RELATIVE_SD * abs(value)))
         return
-    atom = mol.GetAtomWithIdx(root)
-    if hit is None and atom.GetAtomicNum() != 6:
-        out.append(Contribution(f"unlisted substituent {atom.GetSymbol()} {_PLACE[depth]}", 0.0, UNKNOWN_SD * weight))
+    graph = index.graph
+    if hit is None and graph.element(root) != 6:
+        symbol = graph.rdkit_atom(root).GetSymbol()
+        out.append(Contribution(f"unlisted substituent {symbol} {_PLACE[depth]}", 0.0, UNKNOWN_SD * weight))
         return
     if depth >= MAX_DEPTH:
         return
-    seen = visited | {root}
-    for nbr in atom.GetNeighbors():
-        nxt = nbr.GetIdx()
-        if nxt in seen or nxt in group:
+    path += (root,)
+    for nxt in graph.bonded[root][0]:
+        if nxt in path or nxt in group:
             continue
-        _walk(mol, nxt, root, group, rho, index, depth + 1, weight * FALLOFF, seen, out)
+        _walk(nxt, root, group, rho, index, depth + 1, weight * FALLOFF, path, out)

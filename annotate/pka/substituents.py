@@ -7,6 +7,7 @@ from functools import cached_property
 
 from rdkit import Chem
 
+from annotate.pka.graph import MolGraph
 from annotate.sites.rules import required_elements
 from annotate.tables import Row, load_table, packaged
 
@@ -31,28 +32,25 @@ class Substituent:
     sigma_star: float | None
     source: str
     pattern: Chem.Mol | None = field(repr=False, compare=False)
-    elements: frozenset[int] = field(repr=False, compare=False, default=frozenset())
+    #: elements a match needs beyond the attachment atom and the atoms bonded to it
+    #: (which a lookup has already checked), to skip a search that cannot match
+    distant_elements: frozenset[int] = field(repr=False, compare=False, default=frozenset())
     #: element of the attachment atom (0 = any), to skip rows that cannot match a root
     root_element: int = field(repr=False, compare=False, default=0)
-    #: elements the attachment atom must be bonded to (with repeats), same purpose
-    root_neighbours: tuple[int, ...] = field(repr=False, compare=False, default=())
+    #: (element, how many) the attachment atom must be bonded to, same purpose
+    root_neighbours: tuple[tuple[int, int], ...] = field(repr=False, compare=False, default=())
     #: the attachment atom's query, None when recursive (Atom.Match cannot judge those)
     root_query: Chem.Atom | None = field(repr=False, compare=False, default=None)
+    #: the pattern is that one atom, so ``root_query`` alone decides a match at a root
+    root_only: bool = field(repr=False, compare=False, default=False)
 
-    def may_match(self, atom: Chem.Atom, neighbours: list[int]) -> bool:
-        """Necessary conditions for a match rooted at ``atom``: checked in Python, so a
-        root that cannot match never costs a substructure search."""
-        if self.root_element not in (0, atom.GetAtomicNum()):
-            return False
-        if self.root_query is not None and not self.root_query.Match(atom):
-            return False
-        pool = list(neighbours)
-        for z in self.root_neighbours:
-            if z not in pool:
+    def neighbours_suffice(self, neighbours: list[int]) -> bool:
+        """The attachment atom's usable neighbours include ``root_neighbours`` (with
+        repeats); a necessary condition checked in Python."""
+        for z, count in self.root_neighbours:
+            if neighbours.count(z) < count:
                 return False
-            pool.remove(z)
         return True
-
 
     def sigma(self, position: str, *, minus: bool) -> float:
         """Hammett sigma at 'meta' or 'para' (ortho is handled by the caller)."""
@@ -65,7 +63,7 @@ class Substituent:
         """sigma* when not tabulated, from sigma_I; None for sp3 carbon (derived by fall-off)."""
         if self.sigma_star is not None:
             return self.sigma_star
-        if self.pattern is not None and self.pattern.GetAtomWithIdx(0).GetAtomicNum() == 6:
+        if self.root_element == 6:  # the pattern's first atom is carbon
             return None
         return SIGMA_STAR_PER_SIGMA_I * self.sigma_i
 
@@ -78,6 +76,10 @@ def parse_substituent_row(row: Row) -> Substituent:
         if pattern is None:
             raise row.fail(f"invalid SMARTS {smarts!r}")
     sigma_p = row.float_field("sigma_p")
+    root_query = None if pattern is None or "$(" in smarts.split("]")[0] else pattern.GetAtomWithIdx(0)
+    root_element = pattern.GetAtomWithIdx(0).GetAtomicNum() if pattern is not None else 0
+    root_neighbours = _root_neighbours(pattern)
+    elements = required_elements(pattern) if pattern is not None else frozenset()
     return Substituent(
         name=row.text_field("name"),
         smarts=smarts,
@@ -89,17 +91,19 @@ def parse_substituent_row(row: Row) -> Substituent:
         sigma_star=row.optional_float("sigma_star"),
         source=row.text_field("source"),
         pattern=pattern,
-        elements=required_elements(pattern) if pattern is not None else frozenset(),
-        root_element=pattern.GetAtomWithIdx(0).GetAtomicNum() if pattern is not None else 0,
-        root_neighbours=_root_neighbours(pattern),
-        root_query=None if pattern is None or "$(" in smarts.split("]")[0] else pattern.GetAtomWithIdx(0),
+        distant_elements=elements - {root_element} - {z for z, _ in root_neighbours},
+        root_element=root_element,
+        root_neighbours=root_neighbours,
+        root_query=root_query,
+        root_only=root_query is not None and pattern.GetNumAtoms() == 1,
     )
 
 
-def _root_neighbours(pattern: Chem.Mol | None) -> tuple[int, ...]:
+def _root_neighbours(pattern: Chem.Mol | None) -> tuple[tuple[int, int], ...]:
     if pattern is None:
         return ()
-    return tuple(n.GetAtomicNum() for n in pattern.GetAtomWithIdx(0).GetNeighbors() if n.GetAtomicNum() > 0)
+    elements = [n.GetAtomicNum() for n in pattern.GetAtomWithIdx(0).GetNeighbors() if n.GetAtomicNum() > 0]
+    return tuple((z, elements.count(z)) for z in dict.fromkeys(elements))
 
 
 @dataclass(frozen=True)
@@ -109,19 +113,27 @@ class SubstituentTable:
     rows: tuple[Substituent, ...]
     ring_aza: Substituent
     ring_fusion: Substituent
+    #: rows_for answers by (element, sorted neighbour elements); few distinct keys occur
+    _plans: dict[tuple[int, tuple[int, ...]], tuple[Substituent, ...]] = field(
+        default_factory=dict, init=False, repr=False, compare=False
+    )
 
     @cached_property
-    def _by_element(self) -> dict[int, tuple[int, ...]]:
+    def _by_element(self) -> dict[int, tuple[Substituent, ...]]:
         elements = {r.root_element for r in self.rows} - {0}
-        return {
-            z: tuple(i for i, r in enumerate(self.rows) if r.root_element in (0, z)) for z in elements
-        }
+        return {z: tuple(r for r in self.rows if r.root_element in (0, z)) for z in elements}
 
-    def rows_for(self, element: int) -> tuple[int, ...]:
-        """Row numbers, in table order, that can start at an atom of this element."""
-        found = self._by_element.get(element)
+    def rows_for(self, element: int, neighbours: tuple[int, ...]) -> tuple[Substituent, ...]:
+        """Rows, in table order, whose attachment atom can be an atom of this element
+        bonded to atoms of these elements (sorted; the ones a match may use)."""
+        key = (element, neighbours)
+        found = self._plans.get(key)
         if found is None:
-            found = tuple(i for i, r in enumerate(self.rows) if r.root_element == 0)
+            by_element = self._by_element.get(element)
+            if by_element is None:
+                by_element = tuple(r for r in self.rows if r.root_element == 0)
+            usable = list(neighbours)
+            found = self._plans[key] = tuple(r for r in by_element if r.neighbours_suffice(usable))
         return found
 
 
@@ -139,45 +151,71 @@ class SubstituentIndex:
     """Which substituent row describes the group hanging from a given atom.
 
     Lazy per molecule: a row's pattern is matched over the molecule only the
-    first time a lookup reaches that row with a root of the row's element, so
-    a typical lookup at a carbon never evaluates the sulfur or halogen rows.
+    first time a lookup reaches that row at a root the row can start on (right
+    element, bonded to the elements the row needs, the root query holds), so a
+    typical lookup at a carbon never runs a substructure search at all.
+    ``graph`` holds the atom data every estimate on this molecule shares.
     """
 
     def __init__(self, mol: Chem.Mol, table: SubstituentTable) -> None:
-        self._mol = mol
+        self.graph = MolGraph(mol)
         self._table = table
-        self._present: set[int] | None = None
-        self._matches: dict[int, dict[int, list[frozenset[int]]]] = {}
-        self._answers: dict[tuple[int, frozenset[int]], Substituent | None] = {}
+        self._matches: dict[str, dict[int, list[frozenset[int]]]] = {}
+        self._answers: dict[tuple[int, int, frozenset[int]], Substituent | None] = {}
+        self._fitting: dict[tuple[int, ...], tuple[Substituent, ...]] = {}
 
-    def _row_matches(self, number: int) -> dict[int, list[frozenset[int]]]:
-        cached = self._matches.get(number)
-        if cached is None:
-            row = self._table.rows[number]
-            cached = {}
-            if self._present is None:
-                mol = self._mol
-                self._present = {mol.GetAtomWithIdx(i).GetAtomicNum() for i in range(mol.GetNumAtoms())}
-            if row.elements <= self._present:
-                for match in self._mol.GetSubstructMatches(row.pattern, uniquify=False, maxMatches=10000):
-                    cached.setdefault(match[0], []).append(frozenset(match))
-            self._matches[number] = cached
-        return cached
-
-    def lookup(self, root: int, *, excluded: frozenset[int] | set[int]) -> Substituent | None:
-        """First row matching at ``root`` that uses none of the ``excluded`` atoms."""
-        atom = self._mol.GetAtomWithIdx(root)
-        key = (root, frozenset(excluded))
-        if key in self._answers:
-            return self._answers[key]
+    def lookup(self, root: int, came_from: int, group: frozenset[int]) -> Substituent | None:
+        """First row matching the group that hangs from ``root`` (seen from
+        ``came_from``) using neither ``came_from`` nor any atom of ``group``."""
+        key = (root, came_from, group)
+        answer = self._answers.get(key, _UNSEEN)
+        if answer is not _UNSEEN:
+            return answer
         answer = None
-        neighbours = [n.GetAtomicNum() for n in atom.GetNeighbors() if n.GetIdx() not in excluded]
-        for number in self._table.rows_for(atom.GetAtomicNum()):
-            row = self._table.rows[number]
-            if not row.may_match(atom, neighbours):
+        for row in self._rows_fitting(root, came_from, group):
+            if row.root_only:  # its one-atom match is {root}: no search needed
+                if root != came_from and root not in group:
+                    answer = row
+                    break
                 continue
-            if any(atoms.isdisjoint(excluded) for atoms in self._row_matches(number).get(root, ())):
-                answer = row
-                break
+            for atoms in self._row_matches(row).get(root, ()):
+                if came_from not in atoms and atoms.isdisjoint(group):
+                    answer = row
+                    break
+            else:
+                continue
+            break
         self._answers[key] = answer
         return answer
+
+    def _rows_fitting(self, root: int, came_from: int, group: frozenset[int]) -> tuple[Substituent, ...]:
+        """Rows, in table order, that pass every necessary condition at ``root``
+        with the neighbours left usable: right element, bonded to the elements
+        the row needs, root query holds (checked once per root and neighbours)."""
+        indices, elements = self.graph.bonded[root]
+        usable = [z for i, z in zip(indices, elements) if i != came_from and i not in group]
+        usable.sort()
+        key = (root, *usable)
+        found = self._fitting.get(key)
+        if found is None:
+            atom = self.graph.rdkit_atom(root)
+            rows = self._table.rows_for(self.graph.element(root), tuple(usable))
+            found = self._fitting[key] = tuple([r for r in rows if r.root_query is None or r.root_query.Match(atom)])
+        return found
+
+    def _row_matches(self, row: Substituent) -> dict[int, list[frozenset[int]]]:
+        """The row's matches over the whole molecule, by attachment atom (rows with
+        the same SMARTS share them). Only called for a row that fits a root, so
+        the root's and its bonded atoms' elements are known to occur."""
+        cached = self._matches.get(row.smarts)
+        if cached is None:
+            cached = {}
+            graph = self.graph
+            if all(graph.has_element(z) for z in row.distant_elements):
+                for match in graph.mol.GetSubstructMatches(row.pattern, uniquify=False, maxMatches=10000):
+                    cached.setdefault(match[0], []).append(frozenset(match))
+            self._matches[row.smarts] = cached
+        return cached
+
+
+_UNSEEN = object()

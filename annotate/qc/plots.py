@@ -21,9 +21,9 @@ _CAVEAT = "pKa values are estimates"
 
 def plot_qc(annotated: str | Path, *, charge_plot: str | Path, pka_plot: str | Path) -> None:
     """Draw the dominant-charge distribution per pH and the pKa histograms per group."""
-    frame = pl.scan_parquet(annotated)
-    _save(charge_figure(tables.charge_by_ph(frame)), charge_plot)
-    _save(pka_figure(tables.site_pkas(frame)), pka_plot)
+    found = tables.compute(annotated, {"charges": tables.charge_by_ph, "pkas": tables.site_pkas})
+    _save(charge_figure(found["charges"]), charge_plot)
+    _save(pka_figure(found["pkas"]), pka_plot)
 
 
 def charge_figure(charges: pl.DataFrame) -> Figure:
@@ -48,18 +48,27 @@ def charge_figure(charges: pl.DataFrame) -> Figure:
 
 
 def pka_figure(sites: pl.DataFrame) -> Figure:
-    """One pKa histogram per group, the most frequent groups first."""
+    """One pKa histogram per group, the most frequent groups first.
+
+    ``sites`` holds counted values (:data:`~annotate.qc.tables.site_pkas`): each
+    distinct pKa is drawn with its count as weight, the same bars as every value once.
+    """
     if sites.is_empty():
         fig, ax = plt.subplots(figsize=(7, 4))
         return _empty(fig, ax, "no ionizable sites found")
-    ranked = sites.group_by("group", "kind").len().sort(["len", "group"], descending=[True, False])
+    ranked = (
+        sites.group_by("group", "kind")
+        .agg(pl.col("n").sum().alias("len"))
+        .sort(["len", "group", "kind"], descending=[True, False, False])
+    )
     shown = ranked.head(MAX_GROUPS)
     cols = min(4, shown.height)
     rows = math.ceil(shown.height / cols)
     fig, axes = plt.subplots(rows, cols, figsize=(3.2 * cols, 2.6 * rows), squeeze=False)
     for ax, (group, kind, n) in zip(axes.flat, shown.iter_rows(), strict=False):
-        values = sites.filter((pl.col("group") == group) & (pl.col("kind") == kind))["pka"].drop_nulls()
-        ax.hist(values.to_list(), bins=20, color="tab:red" if kind == "acid" else "tab:blue")
+        values = sites.filter((pl.col("group") == group) & (pl.col("kind") == kind) & pl.col("pka").is_not_null())
+        color = "tab:red" if kind == "acid" else "tab:blue"
+        ax.hist(values["pka"].to_list(), bins=20, weights=values["n"].to_list(), color=color)
         ax.set_title(f"{group} ({kind}, n={n})", fontsize=9)
         ax.set_xlabel("pKa")
     for ax in list(axes.flat)[shown.height :]:

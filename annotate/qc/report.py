@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import json
 import platform
-from collections.abc import Callable, Mapping
+from collections.abc import Mapping
 from importlib import metadata as importlib_metadata
 from pathlib import Path
 
@@ -17,7 +17,7 @@ from annotate.io.schema import NOTICE, read_run_metadata
 from annotate.qc import tables
 from annotate.qc.filters import read_filter_counts
 
-TABLES: dict[str, Callable[[pl.LazyFrame], pl.DataFrame]] = {
+TABLES: dict[str, tables.QcTable] = {
     "counts": tables.counts,
     "errors_by_reason": tables.errors_by_reason,
     "charge_by_ph": tables.charge_by_ph,
@@ -40,8 +40,7 @@ def write_qc(
     missing, extra = set(OUTPUTS) - set(outputs), set(outputs) - set(OUTPUTS)
     if missing or extra:
         raise ValueError(f"QC outputs: missing {sorted(missing)}, unexpected {sorted(extra)}")
-    frame = pl.scan_parquet(annotated)
-    results = {name: query(frame) for name, query in TABLES.items()}
+    results = tables.compute(annotated, TABLES)
     for name, table in results.items():
         with atomic_path(outputs[name]) as tmp:
             table.write_csv(tmp, separator="\t", float_precision=4)

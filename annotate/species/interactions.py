@@ -18,8 +18,21 @@ class InteractionTable:
     opposite: tuple[float, ...]
 
     def w(self, distance: int, *, like: bool) -> float:
-        values = self.like if like else self.opposite
-        return values[distance] if 0 < distance < len(values) else 0.0
+        return _at(self.like if like else self.opposite, distance)
+
+    def pair(self, distance: int, second_path: int) -> tuple[float, float]:
+        """(like, opposite) interaction of two sites ``distance`` bonds apart; a path
+        the other way round a shared ring (``second_path`` bonds, 0 if none) adds
+        at SECOND_RING_PATH_WEIGHT."""
+        like, opposite = self.like, self.opposite
+        return (
+            _at(like, distance) + SECOND_RING_PATH_WEIGHT * _at(like, second_path),
+            _at(opposite, distance) + SECOND_RING_PATH_WEIGHT * _at(opposite, second_path),
+        )
+
+
+def _at(values: tuple[float, ...], distance: int) -> float:
+    return values[distance] if 0 < distance < len(values) else 0.0
 
 
 def load_interactions() -> InteractionTable:
