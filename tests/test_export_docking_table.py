@@ -13,7 +13,6 @@ from annotate.export.docking_table import (
     DOCKING_SCHEMA,
     StructureFile,
     docking_table,
-    kept_positions,
     write_structure_files,
 )
 from annotate.export.structures import SMILES_HEADER, docking_records
@@ -80,12 +79,6 @@ def test_files_per_ph_round_trip_through_rdkit(chunks: list[Path], tmp_path: Pat
         assert Chem.GetFormalCharge(parsed) == int(charge) == Chem.GetFormalCharge(mol)
 
 
-def test_keep_selects_input_positions(chunks: list[Path], tmp_path: Path) -> None:
-    only = StructureFile(tmp_path / "kept.sdf", ph=2.0, keep=frozenset({1, 2}))
-    assert write_structure_files(chunks, [only]) == [2]
-    assert [m.GetProp("_Name") for m in Chem.SDMolSupplier(str(only.path))] == ["glycine", "benzene"]
-
-
 def test_empty_chunks_give_empty_typed_files(tmp_path: Path) -> None:
     empty = tmp_path / "000000.parquet"
     pq.write_table(docking_table([]), empty)
@@ -100,7 +93,3 @@ def test_unknown_suffix_writes_nothing(chunks: list[Path], tmp_path: Path) -> No
     with pytest.raises(ValueError, match="end in .sdf or .smi"):
         write_structure_files(chunks, files)
     assert list(tmp_path.iterdir()) == []
-
-
-def test_kept_positions_reads_the_index_column(chunks: list[Path]) -> None:
-    assert kept_positions(chunks[0]) == {0, 1}

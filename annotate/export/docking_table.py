@@ -16,12 +16,12 @@ from typing import Literal, TextIO
 
 import pyarrow as pa
 import pyarrow.compute as pc
-import pyarrow.parquet as pq
 from rdkit import Chem
 
 from annotate.export.filters import PH_TOLERANCE
 from annotate.export.structures import SMILES_HEADER, record_smiles, sdf_text, smiles_line
 from annotate.io.atomic import atomic_path
+from annotate.io.tables import parquet_batches
 
 StructureFormat = Literal["sdf", "smi"]
 STRUCTURE_FORMATS: dict[str, StructureFormat] = {".sdf": "sdf", ".smi": "smi"}
@@ -43,11 +43,10 @@ DOCKING_SCHEMA = pa.schema(
 
 @dataclass(frozen=True, slots=True)
 class StructureFile:
-    """One file to write: the records at ``ph``, only of ``keep`` input positions if given."""
+    """One file to write: the records at ``ph``."""
 
     path: Path
     ph: float
-    keep: frozenset[int] | None = None
 
     @property
     def format(self) -> StructureFormat:
@@ -85,11 +84,13 @@ def write_structure_files(chunk_files: Sequence[str | os.PathLike[str]], files: 
     with ExitStack() as stack:
         outs = [_open(stack, f) for f in files]
         for chunk in chunk_files:
-            table = pq.read_table(chunk, schema=DOCKING_SCHEMA)
-            for k, (target, out) in enumerate(zip(files, outs, strict=True)):
-                selected = table.filter(_selection(table, target))
-                _write_rows(selected, out, fmt=target.format)
-                counts[k] += selected.num_rows
+            # batch by batch, so the job's memory does not follow the chunk size or the library size
+            for batch in parquet_batches(chunk, columns=DOCKING_SCHEMA.names):
+                table = pa.Table.from_batches([batch]).cast(DOCKING_SCHEMA)
+                for k, (target, out) in enumerate(zip(files, outs, strict=True)):
+                    selected = table.filter(_selection(table, target))
+                    _write_rows(selected, out, fmt=target.format)
+                    counts[k] += selected.num_rows
     return counts
 
 
@@ -103,11 +104,7 @@ def _open(stack: ExitStack, target: StructureFile) -> TextIO:
 
 
 def _selection(table: pa.Table, target: StructureFile) -> pa.ChunkedArray:
-    at_ph = pc.less(pc.abs(pc.subtract(table.column("ph"), target.ph)), PH_TOLERANCE)
-    if target.keep is None:
-        return at_ph
-    kept = pc.is_in(table.column("input_index"), value_set=pa.array(sorted(target.keep), pa.int64()))
-    return pc.and_(at_ph, kept)
+    return pc.less(pc.abs(pc.subtract(table.column("ph"), target.ph)), PH_TOLERANCE)
 
 
 def _write_rows(table: pa.Table, out: TextIO, *, fmt: StructureFormat) -> None:
@@ -117,8 +114,3 @@ def _write_rows(table: pa.Table, out: TextIO, *, fmt: StructureFormat) -> None:
     columns = [table.column(name).to_pylist() for name in ("smiles", "id", "ph", "charge", "fraction")]
     for smiles, id_, ph, charge, fraction in zip(*columns, strict=True):
         out.write(smiles_line(smiles=smiles, id=id_, ph=ph, charge=charge, fraction=fraction))
-
-
-def kept_positions(parquet: str | os.PathLike[str]) -> frozenset[int]:
-    """Input positions of the rows of an annotated (or filtered) Parquet file."""
-    return frozenset(pq.read_table(parquet, columns=["input_index"]).column("input_index").to_pylist())

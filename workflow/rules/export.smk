@@ -11,7 +11,7 @@ rule export_docking_structures:
         ENV
     threads: 1
     resources:
-        mem_mb=2000,
+        mem_mb=1000,
         runtime=60,
     params:
         phs=[ph for ph, _ in DOCKING_TARGETS],
@@ -40,7 +40,7 @@ rule filter_library:
         ENV
     threads: 1
     resources:
-        mem_mb=4000,
+        mem_mb=1000,
         runtime=60,
     params:
         filters=config["filters"],

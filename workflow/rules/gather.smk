@@ -12,7 +12,7 @@ rule gather_annotations:
         ENV
     threads: 1
     resources:
-        mem_mb=2000,
+        mem_mb=1000,
         runtime=60,
     script:
         "../scripts/gather_annotations.py"

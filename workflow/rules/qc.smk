@@ -59,7 +59,7 @@ rule summarize_qc:
         ENV
     threads: 1
     resources:
-        mem_mb=4000,
+        mem_mb=1000,
         runtime=60,
     script:
         "../scripts/summarize_qc.py"
@@ -89,7 +89,7 @@ rule plot_qc:
         ENV
     threads: 1
     resources:
-        mem_mb=4000,
+        mem_mb=1000,
         runtime=30,
     script:
         "../scripts/plot_qc.py"

@@ -11,7 +11,7 @@ checkpoint split_library:
         ENV
     threads: 1
     resources:
-        mem_mb=2000,
+        mem_mb=1000,
         runtime=60,
     params:
         library=library_spec,
