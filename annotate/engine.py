@@ -186,7 +186,7 @@ def _on_atom(site: Site, atom: int) -> Site:
 
 
 class _SpeciesTable:
-    """What every pH of one molecule shares: symmetry keys and species SMILES per microstate.
+    """What every pH of one molecule shares: per microstate, its symmetry key and species.
 
     The reference microstate (acids protonated, bases neutral) is the parent itself,
     so its SMILES is the parent's and is not built again. Other species are written
@@ -197,10 +197,12 @@ class _SpeciesTable:
         self._mol = mol
         self._sites = sites
         self._model = model
+        self._parent_smiles = parent_smiles
+        self._reference = tuple(s.kind == "acid" for s in sites)
+        self._write = SpeciesSmiles(mol, sites)
         self._ranks: list[int] | None = None
         self._keys: dict[int, tuple] = {}
-        self._smiles: dict[tuple[bool, ...], str] = {tuple(s.kind == "acid" for s in sites): parent_smiles}
-        self._write = SpeciesSmiles(mol, sites)
+        self._entries: dict[int, tuple[str, int, tuple[bool, ...]]] = {}
 
     def key(self, state: int) -> tuple:
         """Equal for microstates that differ only by which symmetry-equivalent site holds a proton."""
@@ -211,11 +213,14 @@ class _SpeciesTable:
             key = self._keys[state] = tuple(sorted(zip(self._ranks, self._model.pattern(state))))
         return key
 
-    def smiles(self, pattern: tuple[bool, ...]) -> str:
-        smiles = self._smiles.get(pattern)
-        if smiles is None:
-            smiles = self._smiles[pattern] = self._write(pattern)
-        return smiles
+    def entry(self, state: int) -> tuple[str, int, tuple[bool, ...]]:
+        """SMILES, net charge and protonation pattern of a microstate."""
+        entry = self._entries.get(state)
+        if entry is None:
+            pattern = self._model.pattern(state)
+            smiles = self._parent_smiles if pattern == self._reference else self._write(pattern)
+            entry = self._entries[state] = (smiles, self._model.charge(state), pattern)
+        return entry
 
 
 def _ph_state(species: _SpeciesTable, model: MicrostateModel, ph: float, settings: Settings) -> PhState:
@@ -239,8 +244,8 @@ def _ph_state(species: _SpeciesTable, model: MicrostateModel, ph: float, setting
         if merged and total < settings.min_fraction:
             break
         for k, fraction in members:
-            pattern = model.pattern(k)
-            entry = merged.setdefault(species.smiles(pattern), [0.0, model.charge(k), pattern])
+            smiles, charge, pattern = species.entry(k)
+            entry = merged.setdefault(smiles, [0.0, charge, pattern])
             entry[0] += fraction
     ranked = sorted(merged.items(), key=lambda kv: -kv[1][0])
     kept = [

@@ -104,11 +104,15 @@ def _scan(mol: Chem.Mol) -> _Scan:
     """Every check in one pass, over only the atoms some check is about.
 
     Atom iteration from Python is the slow part, and most molecules have no such
-    atom: one query (``_NOTABLE``) finds them in RDKit.
+    atom: one query (``_NOTABLE``) finds them in RDKit. The matches are read by index:
+    iterating RDKit's sequence ends by throwing a C++ exception, which costs more
+    than the whole query.
     """
     dummy = hydrogens = charged = radical = False
     unsupported: set[str] = set()
-    for atom in mol.GetAtomsMatchingQuery(_NOTABLE):
+    matches = mol.GetAtomsMatchingQuery(_NOTABLE)
+    for i in range(len(matches)):
+        atom = matches[i]
         z = atom.GetAtomicNum()
         dummy |= z == 0
         hydrogens |= z == 1

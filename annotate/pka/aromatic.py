@@ -12,9 +12,9 @@ next-but-one position sigma_m.
 
 from __future__ import annotations
 
-from rdkit import Chem
-
 from dataclasses import replace
+
+from rdkit import Chem
 
 from annotate.pka.contributions import TERM_RELATIVE_SD, UNKNOWN_SD, Contribution
 from annotate.pka.graph import MolGraph
@@ -22,11 +22,20 @@ from annotate.pka.inductive import group_sigma_star
 from annotate.pka.substituents import Substituent, SubstituentIndex, SubstituentTable
 from annotate.sites.rules import GroupRule
 
-#: (distance in bonds, position name) by ring size and |index difference| along the ring
-_POSITIONS = {
-    6: {1: (1, "ortho"), 5: (1, "ortho"), 2: (2, "meta"), 4: (2, "meta"), 3: (3, "para")},
-    5: {1: (1, "adjacent"), 4: (1, "adjacent"), 2: (2, "next-but-one"), 3: (2, "next-but-one")},
-}
+_NAMES = {6: {1: "ortho", 2: "meta", 3: "para"}, 5: {1: "adjacent", 2: "next-but-one"}}
+
+
+def _positions(size: int) -> dict[int, tuple[int, str]]:
+    """(distance in bonds, position name) by index difference along a ring of ``size``."""
+    table = {}
+    for steps in range(1 - size, size):
+        if steps:
+            distance = min(abs(steps), size - abs(steps))
+            table[steps] = (distance, _NAMES[size][distance])
+    return table
+
+
+_POSITIONS = {size: _positions(size) for size in _NAMES}
 
 
 def site_ring(graph: MolGraph, anchor: int) -> tuple[int, ...] | None:
@@ -53,6 +62,8 @@ def hammett_contributions(
     index: SubstituentIndex,
     table: SubstituentTable,
 ) -> list[Contribution]:
+    """One term per ring member or substituent, in ring order (the order the
+    explanation lists them)."""
     graph = index.graph
     ring = site_ring(graph, anchor)
     if ring is None:
@@ -65,7 +76,7 @@ def hammett_contributions(
     for offset, p in enumerate(ring):
         if p == anchor:
             continue
-        distance, position = positions[abs(offset - start)]
+        distance, position = positions[offset - start]
         element, _, degree = atoms[p]
         if element == 7 and p not in group and _is_pyridine_like(graph, p):
             out.append(_term(rule, table.ring_aza, "ring N", position, distance))
@@ -79,7 +90,7 @@ def hammett_contributions(
                 continue
             hit = index.lookup(s, p, group)
             if hit is None:
-                label = f"unlisted substituent {graph.rdkit_atom(s).GetSymbol()} {position}"
+                label = f"unlisted substituent {graph.rdkit[s].GetSymbol()} {position}"
                 out.append(Contribution(label, 0.0, UNKNOWN_SD))
                 continue
             if hit.sigma_star is None and hit.root_element == 6:
@@ -116,7 +127,7 @@ def _is_pyridine_like(graph: MolGraph, index: int) -> bool:
     element, aromatic, degree = graph.atoms[index]
     if element != 7 or not aromatic or degree != 2:
         return False
-    return graph.rdkit_atom(index).GetTotalNumHs() == 0
+    return graph.rdkit[index].GetTotalNumHs() == 0
 
 
 def _fused(graph: MolGraph, p: int, s: int, ring: set[int]) -> bool:

@@ -25,6 +25,8 @@ class Contribution(NamedTuple):
 
 
 class NetTerm(NamedTuple):
+    """Contributions of one label, net of the parent's; ``label`` counts repeats."""
+
     label: str
     value: float
     sd: float
@@ -36,7 +38,7 @@ def net_of_parent(mol: Iterable[Contribution], parent: Iterable[Contribution]) -
     The rule's pKa is measured on its parent compound, so whatever the parent
     already carries (e.g. ethanol's two carbinol H) must not be counted twice.
     """
-    totals: dict[str, list[float]] = {}
+    totals: dict[str, list[float]] = {}  # label -> [value, n_mol, variance, n_parent]
     for label, value, sd in mol:
         t = totals.get(label)
         if t is None:

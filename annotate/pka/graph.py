@@ -4,10 +4,10 @@ Each RDKit accessor costs about a microsecond of wrapper overhead (more when
 iterating ``GetAtoms()`` or ``AtomRings()``), and estimating a molecule's sites
 asks the same few questions (element, neighbours, aromatic flag, rings) many
 times over. So an atom is read on first use only, and only atoms the estimate
-reaches are read at all. ``atoms`` and ``bonded`` are dicts that read a missing
-atom when asked for it, so a repeated question costs one dict lookup. Reading
-an atom's neighbours also keeps their RDKit atoms and elements: a walk outwards
-needs nothing more of them before it reads their own neighbours.
+reaches are read at all. The tables are dicts that read a missing atom when
+asked for it, so a repeated question costs one dict lookup. Reading an atom's
+neighbours also keeps their RDKit atoms and elements: a walk outwards needs
+nothing more of them before it reads their own neighbours.
 """
 
 from __future__ import annotations
@@ -25,67 +25,67 @@ AtomData = tuple[int, bool, int]
 Bonded = tuple[tuple[int, ...], tuple[int, ...]]
 
 
-class _AtomTable(dict[int, AtomData]):
-    __slots__ = ("graph",)
+class _RDKitAtoms(dict[int, Chem.Atom]):
+    __slots__ = ("mol",)
+
+    def __missing__(self, index: int) -> Chem.Atom:
+        atom = self[index] = self.mol.GetAtomWithIdx(index)
+        return atom
+
+
+class _Elements(dict[int, int]):
+    __slots__ = ("atoms",)
+
+    def __missing__(self, index: int) -> int:
+        z = self[index] = self.atoms[index][0]
+        return z
+
+
+class _AtomData(dict[int, AtomData]):
+    __slots__ = ("rdkit",)
 
     def __missing__(self, index: int) -> AtomData:
-        graph = self.graph
-        atom = graph.rdkit_atoms.get(index)
-        if atom is None:
-            atom = graph.rdkit_atom(index)
+        atom = self.rdkit[index]
         data = self[index] = (atom.GetAtomicNum(), atom.GetIsAromatic(), atom.GetDegree())
         return data
 
 
-class _BondedTable(dict[int, Bonded]):
-    __slots__ = ("graph",)
+class _Bonded(dict[int, Bonded]):
+    __slots__ = ("rdkit", "elements")
 
     def __missing__(self, index: int) -> Bonded:
-        graph = self.graph
-        atom = graph.rdkit_atoms.get(index)
-        if atom is None:
-            atom = graph.rdkit_atom(index)
-        atoms = atom.GetNeighbors()
+        atoms = self.rdkit[index].GetNeighbors()
         indices = tuple(map(_INDEX, atoms))
         elements = tuple(map(_ELEMENT, atoms))
-        graph.rdkit_atoms.update(zip(indices, atoms))
-        graph.elements.update(zip(indices, elements))
+        self.rdkit.update(zip(indices, atoms))
+        self.elements.update(zip(indices, elements))
         found = self[index] = (indices, elements)
         return found
 
 
 class MolGraph:
-    """Atom data, neighbours and rings of one (unchanging) molecule.
+    """Atoms, neighbours and rings of one (unchanging) molecule, each read once.
 
-    ``atoms[i]`` is atom ``i``'s (element, aromatic, degree), ``bonded[i]`` its
-    (neighbour indices, neighbour elements); both ask RDKit the first time only.
+    ``rdkit[i]`` is atom ``i``'s RDKit atom, ``element[i]`` its atomic number,
+    ``atoms[i]`` its (element, aromatic, degree) and ``bonded[i]`` its
+    (neighbour indices, neighbour elements).
     """
 
-    __slots__ = ("mol", "atoms", "bonded", "elements", "rdkit_atoms", "_rings", "_has")
+    __slots__ = ("mol", "rdkit", "element", "atoms", "bonded", "_rings", "_has")
 
     def __init__(self, mol: Chem.Mol) -> None:
         self.mol = mol
-        self.atoms = _AtomTable()
-        self.atoms.graph = self
-        self.bonded = _BondedTable()
-        self.bonded.graph = self
-        #: elements and RDKit atoms known so far (from reads of the atom or a neighbour)
-        self.elements: dict[int, int] = {}
-        self.rdkit_atoms: dict[int, Chem.Atom] = {}
+        self.rdkit = _RDKitAtoms()
+        self.rdkit.mol = mol
+        self.atoms = _AtomData()
+        self.atoms.rdkit = self.rdkit
+        self.element = _Elements()
+        self.element.atoms = self.atoms
+        self.bonded = _Bonded()
+        self.bonded.rdkit = self.rdkit
+        self.bonded.elements = self.element
         self._rings: tuple[tuple[int, ...], ...] | None = None
         self._has: dict[int, bool] = {}
-
-    def rdkit_atom(self, index: int) -> Chem.Atom:
-        atom = self.rdkit_atoms.get(index)
-        if atom is None:
-            atom = self.rdkit_atoms[index] = self.mol.GetAtomWithIdx(index)
-        return atom
-
-    def element(self, index: int) -> int:
-        z = self.elements.get(index)
-        if z is None:
-            z = self.elements[index] = self.atoms[index][0]
-        return z
 
     @property
     def rings(self) -> tuple[tuple[int, ...], ...]:
@@ -99,7 +99,7 @@ class MolGraph:
         far has it, else one search, once per element."""
         found = self._has.get(z)
         if found is None:
-            found = z in self.elements.values() or self.mol.HasSubstructMatch(_element_query(z))
+            found = z in self.element.values() or self.mol.HasSubstructMatch(_element_query(z))
             self._has[z] = found
         return found
 

@@ -33,7 +33,7 @@ def taft_contributions(
     """Each substituent's -rho* x sigma* x fall-off, plus the H atoms on the anchor."""
     graph = index.graph
     out: list[Contribution] = []
-    n_h = graph.rdkit_atom(anchor).GetTotalNumHs()
+    n_h = graph.rdkit[anchor].GetTotalNumHs()
     for _ in range(n_h):
         out.append(Contribution(f"H on anchor (sigma* {SIGMA_STAR_H:.2f})", -rho * SIGMA_STAR_H, 0.05))
     for root in graph.bonded[anchor][0]:
@@ -71,8 +71,8 @@ def _walk(
             out.append(Contribution(label, value, TERM_RELATIVE_SD * abs(value)))
         return
     graph = index.graph
-    if hit is None and graph.element(root) != 6:
-        symbol = graph.rdkit_atom(root).GetSymbol()
+    if hit is None and graph.element[root] != 6:
+        symbol = graph.rdkit[root].GetSymbol()
         out.append(Contribution(f"unlisted substituent {symbol} {_PLACE[depth]}", 0.0, UNKNOWN_SD * weight))
         return
     if depth >= MAX_DEPTH:

@@ -127,14 +127,13 @@ class SubstituentTable:
         """Rows, in table order, whose attachment atom can be an atom of this element
         bonded to atoms of these elements (sorted; the ones a match may use)."""
         key = (element, neighbours)
-        found = self._plans.get(key)
-        if found is None:
+        if key not in self._plans:
             by_element = self._by_element.get(element)
             if by_element is None:
                 by_element = tuple(r for r in self.rows if r.root_element == 0)
             usable = list(neighbours)
-            found = self._plans[key] = tuple(r for r in by_element if r.neighbours_suffice(usable))
-        return found
+            self._plans[key] = tuple(r for r in by_element if r.neighbours_suffice(usable))
+        return self._plans[key]
 
 
 def load_substituents() -> SubstituentTable:
@@ -152,9 +151,9 @@ class SubstituentIndex:
 
     Lazy per molecule: a row's pattern is matched over the molecule only the
     first time a lookup reaches that row at a root the row can start on (right
-    element, bonded to the elements the row needs, the root query holds), so a
-    typical lookup at a carbon never runs a substructure search at all.
-    ``graph`` holds the atom data every estimate on this molecule shares.
+    element, bonded to the elements the row needs, the root query holds), and
+    a one-atom row needs no search at all, so a typical lookup at a carbon runs
+    none. ``graph`` holds the atom data every estimate on this molecule shares.
     """
 
     def __init__(self, mol: Chem.Mol, table: SubstituentTable) -> None:
@@ -162,46 +161,42 @@ class SubstituentIndex:
         self._table = table
         self._matches: dict[str, dict[int, list[frozenset[int]]]] = {}
         self._answers: dict[tuple[int, int, frozenset[int]], Substituent | None] = {}
-        self._fitting: dict[tuple[int, ...], tuple[Substituent, ...]] = {}
 
     def lookup(self, root: int, came_from: int, group: frozenset[int]) -> Substituent | None:
         """First row matching the group that hangs from ``root`` (seen from
-        ``came_from``) using neither ``came_from`` nor any atom of ``group``."""
+        ``came_from``) using neither ``came_from`` nor any atom of ``group``.
+
+        Rows are tried in table order, each through its cheap necessary
+        conditions first: element and bonded elements (the table's plan for
+        this root), then the root atom's own query, and only then its matches."""
         key = (root, came_from, group)
-        answer = self._answers.get(key, _UNSEEN)
-        if answer is not _UNSEEN:
-            return answer
+        if key in self._answers:
+            return self._answers[key]
+        graph = self.graph
+        indices, elements = graph.bonded[root]
+        usable = [z for i, z in zip(indices, elements) if i != came_from and i not in group]
+        usable.sort()
+        atom = graph.rdkit[root]
         answer = None
-        for row in self._rows_fitting(root, came_from, group):
+        for row in self._table.rows_for(graph.element[root], tuple(usable)):
+            query = row.root_query
+            if query is not None and not query.Match(atom):
+                continue
             if row.root_only:  # its one-atom match is {root}: no search needed
-                if root != came_from and root not in group:
-                    answer = row
-                    break
-                continue
-            for atoms in self._row_matches(row).get(root, ()):
-                if came_from not in atoms and atoms.isdisjoint(group):
-                    answer = row
-                    break
+                found = root != came_from and root not in group
             else:
-                continue
-            break
+                found = self._matches_avoiding(row, root, came_from, group)
+            if found:
+                answer = row
+                break
         self._answers[key] = answer
         return answer
 
-    def _rows_fitting(self, root: int, came_from: int, group: frozenset[int]) -> tuple[Substituent, ...]:
-        """Rows, in table order, that pass every necessary condition at ``root``
-        with the neighbours left usable: right element, bonded to the elements
-        the row needs, root query holds (checked once per root and neighbours)."""
-        indices, elements = self.graph.bonded[root]
-        usable = [z for i, z in zip(indices, elements) if i != came_from and i not in group]
-        usable.sort()
-        key = (root, *usable)
-        found = self._fitting.get(key)
-        if found is None:
-            atom = self.graph.rdkit_atom(root)
-            rows = self._table.rows_for(self.graph.element(root), tuple(usable))
-            found = self._fitting[key] = tuple([r for r in rows if r.root_query is None or r.root_query.Match(atom)])
-        return found
+    def _matches_avoiding(self, row: Substituent, root: int, came_from: int, group: frozenset[int]) -> bool:
+        for atoms in self._row_matches(row).get(root, ()):
+            if came_from not in atoms and atoms.isdisjoint(group):
+                return True
+        return False
 
     def _row_matches(self, row: Substituent) -> dict[int, list[frozenset[int]]]:
         """The row's matches over the whole molecule, by attachment atom (rows with
@@ -217,5 +212,3 @@ class SubstituentIndex:
             self._matches[row.smarts] = cached
         return cached
 
-
-_UNSEEN = object()
