@@ -54,7 +54,7 @@ def _both_paths(inputs: dict) -> tuple[tuple, tuple]:
 
 
 @pytest.mark.parametrize("seed", range(2))
-def test_python_and_numpy_paths_agree_exactly(seed: int) -> None:
+def test_python_and_numpy_paths_agree(seed: int) -> None:
     rng = random.Random(seed)
     for _ in range(250):
         n = rng.randint(0, SMALL_SITES)
@@ -66,8 +66,13 @@ def test_python_and_numpy_paths_agree_exactly(seed: int) -> None:
         m = len(small.charges).bit_length() - 1
         assert ms._macro_pka(small_log_base, m) == ms._macro_pka(array_log_base, m)
         for ph in PH:
-            assert small.fractions(ph) == arrays.fractions(ph).tolist(), (inputs, ph)
-            assert small.populations(ph, 64) == arrays.populations(ph, 64), (inputs, ph)
+            # numpy's exp may be a SIMD routine that differs from libm's math.exp in the
+            # last bit (seen on an AVX-512 machine), so fractions agree to an ulp or two
+            assert small.fractions(ph) == pytest.approx(arrays.fractions(ph).tolist(), rel=1e-14, abs=0), (inputs, ph)
+            python, numpy = small.populations(ph, 64), arrays.populations(ph, 64)
+            assert [k for k, _ in python.ranked] == [k for k, _ in numpy.ranked], (inputs, ph)
+            assert [f for _, f in python.ranked] == pytest.approx([f for _, f in numpy.ranked], rel=1e-14, abs=0)
+            assert python.charge_mean == pytest.approx(numpy.charge_mean, rel=1e-14, abs=1e-15)
 
 
 def test_python_path_serves_small_molecules_only() -> None:
@@ -87,14 +92,19 @@ def test_numpy_order_sum(length: int) -> None:
         assert ms._numpy_sum(values.tolist()) == values.sum()
 
 
-def test_math_functions_round_as_numpy() -> None:
-    """The Python path uses math.exp, ** and math.log10 where the array path uses numpy."""
+def test_math_functions_agree_with_numpy() -> None:
+    """The Python path uses math.exp, ** and math.log10 where the array path uses numpy.
+
+    They agree to an ulp or two, not always bit for bit: on a machine with AVX-512,
+    numpy's exp is a SIMD routine whose last bit can differ from libm's. Reported
+    fractions are rounded to six digits, far above that.
+    """
     rng = np.random.default_rng(0)
     exponents = rng.uniform(-60.0, 0.0, 20_000)
-    assert [math.exp(x * ms.LN10) for x in exponents.tolist()] == np.exp(exponents * ms.LN10).tolist()
-    assert [10.0**x for x in exponents.tolist()] == np.power(10.0, exponents).tolist()
+    assert [math.exp(x * ms.LN10) for x in exponents.tolist()] == pytest.approx(np.exp(exponents * ms.LN10).tolist(), rel=1e-15, abs=0)
+    assert [10.0**x for x in exponents.tolist()] == pytest.approx(np.power(10.0, exponents).tolist(), rel=1e-15, abs=0)
     sums = rng.uniform(1.0, 4096.0, 20_000)
-    assert [math.log10(x) for x in sums.tolist()] == np.log10(sums).tolist()
+    assert [math.log10(x) for x in sums.tolist()] == pytest.approx(np.log10(sums).tolist(), rel=1e-15, abs=0)
     assert ms.LN10 == np.log(10.0)
 
 

@@ -7,6 +7,7 @@ from dataclasses import dataclass
 from rdkit import Chem
 from rdkit.Chem import FilterCatalog
 
+from annotate.sites.gates import gates_for
 from annotate.sites.rules import GroupRule
 
 
@@ -24,24 +25,52 @@ class SiteMatch:
 class RuleMatcher:
     """The group rules of a run, prepared for fast matching; build once per process.
 
-    Every rule pattern also sits in one RDKit FilterCatalog, so a single C++ call
-    tells which rules match a molecule at all (typically 3-5 of about 100); only
-    those are matched again for their atoms. Named contexts are matched at most
-    once per molecule.
+    The rules hang in one RDKit FilterCatalog under a tree of their gates (see
+    gates.py), so a single C++ call tests each gate once and each rule only where
+    its gates matched, and returns the rules that match (typically 3-5 of about
+    100). Named contexts are matched at most once per molecule.
     """
 
     def __init__(self, rules: tuple[GroupRule, ...], contexts: dict[str, Chem.Mol]) -> None:
         self.rules = rules
         self.contexts = contexts
-        self._catalog = FilterCatalog.FilterCatalog()
+        tree: dict = {}
         for number, rule in enumerate(rules):
-            matcher = FilterCatalog.SmartsMatcher(rule.name, rule.pattern, 1)
-            self._catalog.AddEntry(FilterCatalog.FilterCatalogEntry(str(number), matcher))
+            node = tree
+            for gate in gates_for(rule.pattern, rule.site_index, Chem.MolFromSmiles(rule.parent)):
+                node = node.setdefault(gate, {})
+            node.setdefault(_RULES, []).append(number)
+        self._catalog = FilterCatalog.FilterCatalog()
+        for matcher in _matchers(tree, rules):
+            self._catalog.AddEntry(FilterCatalog.FilterCatalogEntry("", matcher))
 
-    def candidates(self, mol: Chem.Mol) -> list[GroupRule]:
+    def matching(self, mol: Chem.Mol) -> list[GroupRule]:
         """Rules with at least one match, in table order."""
-        numbers = sorted(int(entry.GetDescription()) for entry in self._catalog.GetMatches(mol))
-        return [self.rules[n] for n in numbers]
+        # a gate whose rules all fail reports itself, under the name ""
+        numbers = {match.filterMatch.GetName() for match in self._catalog.GetFilterMatches(mol)}
+        numbers.discard("")
+        return [self.rules[n] for n in sorted(map(int, numbers))]
+
+
+#: key of a gate-tree node's own rules (gates are SMARTS, so never this)
+_RULES = ""
+
+
+def _matchers(tree: dict, rules: tuple[GroupRule, ...]) -> list[FilterCatalog.FilterHierarchyMatcher]:
+    """A node's children are tested only if the node matched; a match reports the deepest."""
+    out = []
+    for key, below in tree.items():
+        if key == _RULES:
+            out += [
+                FilterCatalog.FilterHierarchyMatcher(FilterCatalog.SmartsMatcher(str(n), rules[n].pattern, 1))
+                for n in below
+            ]
+            continue
+        node = FilterCatalog.FilterHierarchyMatcher(FilterCatalog.SmartsMatcher("", key, 1))
+        for child in _matchers(below, rules):
+            node.AddChild(child)
+        out.append(node)
+    return out
 
 
 def find_sites(mol: Chem.Mol, matcher: RuleMatcher) -> list[SiteMatch]:
@@ -49,7 +78,7 @@ def find_sites(mol: Chem.Mol, matcher: RuleMatcher) -> list[SiteMatch]:
     context_atoms: dict[str, set[int]] = {}
     taken: set[tuple[int, str]] = set()
     found: list[SiteMatch] = []
-    for rule in matcher.candidates(mol):
+    for rule in matcher.matching(mol):
         allowed = None
         if rule.context:
             allowed = context_atoms.get(rule.context)

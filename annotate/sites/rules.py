@@ -37,7 +37,6 @@ class GroupRule:
     pattern: Chem.Mol = field(repr=False, compare=False)
     site_index: int = field(repr=False, compare=False)
     anchor_index: int = field(repr=False, compare=False)
-    elements: frozenset[int] = field(repr=False, compare=False)
 
     def __repr__(self) -> str:
         return f"GroupRule({self.name!r}, {self.kind}, {self.smarts!r}, pKa {self.pka})"
@@ -106,7 +105,6 @@ def parse_group_row(row: Row) -> GroupRule:
         pattern=pattern,
         site_index=site,
         anchor_index=site if anchor is None else anchor,
-        elements=required_elements(pattern),
     )
 
 

@@ -16,8 +16,9 @@ numbers and numpy arrays alike) and evaluated in one of two ways. Up to
 ``SMALL_SITES`` sites each microstate is a handful of Python numbers, since
 numpy's fixed cost per call would be most of the time for 8 microstates;
 larger molecules use numpy arrays over all microstates. Sums follow numpy's
-order of addition in both, so both give the same bits
-(tests/test_species_microstates.py checks this on random models).
+order of addition in both, so both give the same log weights to the bit; the
+fractions agree to an ulp or two, as numpy's exp may be a SIMD routine whose last
+bit differs from libm's (tests/test_species_microstates.py checks both on random models).
 """
 
 from __future__ import annotations
@@ -40,7 +41,7 @@ WINDOW_MARGIN = 6.0
 #: sites closer than this in pKa titrate together rather than one after the other
 COMPETING = 0.5
 #: up to this many sites (8 microstates) a model is evaluated without numpy. The bound
-#: also makes both paths agree exactly: a site then has at most two charged partners,
+#: also makes both paths' log weights agree exactly: a site then has at most two charged partners,
 #: and the sum of two numbers does not depend on the order a matrix product adds them in
 SMALL_SITES = 3
 #: ln 10, the same double as numpy's np.log(10.0)
