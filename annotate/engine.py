@@ -277,7 +277,8 @@ def _site_distances(mol: Chem.Mol, atoms: list[int]) -> tuple[list[list[int]], l
     """Bond counts between site atoms, and the other way round a shared ring (0 if none).
 
     A shortest-path search per pair is far cheaper than the full distance matrix
-    for the handful of sites a molecule has.
+    for the handful of sites a molecule has. Rings are read per site atom (index
+    and size): RDKit hands the full ring list to Python element by element.
     """
     n = len(atoms)
     dist = [[0] * n for _ in range(n)]
@@ -285,16 +286,20 @@ def _site_distances(mol: Chem.Mol, atoms: list[int]) -> tuple[list[list[int]], l
     if n < 2:
         return dist, second
     ring_info = mol.GetRingInfo()
-    in_ring = [ring_info.NumAtomRings(a) > 0 for a in atoms]
-    rings = ring_info.AtomRings() if sum(in_ring) > 1 else ()
+    rings = [_atom_rings(ring_info, a) for a in atoms]
     for i in range(n):
         for j in range(i + 1, n):
             a, b = atoms[i], atoms[j]
             d = len(Chem.GetShortestPath(mol, a, b)) - 1 if a != b else 0
             dist[i][j] = dist[j][i] = d
-            if not (in_ring[i] and in_ring[j]):
-                continue
-            shared = [len(r) for r in rings if a in r and b in r]
+            shared = [size for ring, size in rings[i].items() if ring in rings[j]]
             if shared:
                 second[i][j] = second[j][i] = min(shared) - d
     return dist, second
+
+
+def _atom_rings(ring_info: Chem.RingInfo, atom: int) -> dict[int, int]:
+    """Ring index -> ring size, for the rings holding ``atom``."""
+    if not ring_info.NumAtomRings(atom):
+        return {}
+    return dict(zip(ring_info.AtomMembers(atom), ring_info.AtomRingSizes(atom), strict=True))

@@ -31,9 +31,27 @@ def test_sample_larger_than_library_takes_every_record(tmp_path: Path) -> None:
 def test_floor_writes_canonical_smiles_and_an_empty_field_for_unparsable_records(tmp_path: Path) -> None:
     out = tmp_path / "floor.smi"
     # RDKit writes ethanol as CCO whatever atom order it was given in (RDKit canonical SMILES)
-    count = rb.floor_pass([("OCC", "a"), ("C1CC", "bad"), ("", "empty")], out)
+    with out.open("w") as handle:
+        count = rb.floor_pass([("OCC", "a"), ("C1CC", "bad"), ("", "empty")], handle)
     assert count == 3
     assert out.read_text().splitlines() == ["CCO\ta", "\tbad", "\tempty"]
+
+
+def test_passes_take_turns_over_the_same_records_block_by_block() -> None:
+    records = [(f"C{i}", str(i)) for i in range(7)]
+    seen: list[tuple[str, list[str]]] = []
+
+    def recorder(name: str):  # noqa: ANN202
+        def work(part) -> int:  # noqa: ANN001
+            seen.append((name, [rid for _, rid in part]))
+            return len(part)
+        return work
+
+    timings = rb.timed_in_turns({"a": recorder("a"), "b": recorder("b")}, records, block=3)
+    assert seen == [("a", ["0", "1", "2"]), ("b", ["0", "1", "2"]), ("a", ["3", "4", "5"]),
+                    ("b", ["3", "4", "5"]), ("a", ["6"]), ("b", ["6"])]
+    assert {name: t.molecules for name, t in timings.items()} == {"a": 7, "b": 7}
+    assert all(t.cpu_s >= 0 and t.wall_s >= 0 for t in timings.values())
 
 
 def test_job_benchmarks_take_the_largest_rss_and_sum_seconds_per_rule(tmp_path: Path) -> None:
