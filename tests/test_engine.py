@@ -1,13 +1,25 @@
-"""Engine steps after site finding: distances, shared per-pH work, molecules without sites."""
+"""Engine steps after site finding: distances, shared per-pH work, molecules without sites, batches."""
 
 from __future__ import annotations
 
 import dataclasses
 
+import pytest
 from rdkit import Chem
 
+import annotate.engine as engine
 from annotate import Settings, annotate_mol, annotate_smiles
-from annotate.engine import _model, _on_atom, _ph_state, _site_distances, _sites, _SpeciesTable, _with_interactions
+from annotate.engine import (
+    _model,
+    _on_atom,
+    _ph_state,
+    _site_distances,
+    _sites,
+    _SpeciesTable,
+    _with_interactions,
+    annotate_batch,
+)
+from annotate.parse import mol_from_smiles
 from annotate.results import Site
 from annotate.ruleset import load_ruleset
 from annotate.standardize import parent_of
@@ -86,3 +98,32 @@ def test_moving_a_site_keeps_every_other_field() -> None:
     values = {f.name: (f"value of {f.name}" if f.name != "atom" else 3) for f in dataclasses.fields(Site)}
     site = Site(**values)
     assert _on_atom(site, 7) == dataclasses.replace(site, atom=7)
+
+
+BATCH_SMILES = ["OC(=O)c1ccccc1", "NCCc1ccc(O)cc1", "", "C1CC", "[Na+].[Cl-]", "NCC(=O)O", "Oc1ccncc1"]
+
+
+def test_a_batch_gives_what_records_one_at_a_time_give() -> None:
+    """Step by step over a batch (cache-friendly) and record by record are the same results."""
+    parsed = [mol_from_smiles(s) for s in BATCH_SMILES]
+    ids = [f"r{i}" for i in range(len(BATCH_SMILES))]
+    batch = annotate_batch([m for m, _ in parsed], ids=ids, reasons=[r for _, r in parsed], settings=THREE_PH, owned=True)
+    alone = [annotate_smiles(s, id=i, settings=THREE_PH) for s, i in zip(BATCH_SMILES, ids, strict=True)]
+    assert [a.result for a in batch] == alone
+    assert [a.result.status for a in batch] == ["ok", "ok", "error", "error", "error", "ok", "ok"]
+    assert [a.parent is not None for a in batch] == [r.status != "error" for r in alone]
+
+
+def test_a_step_failing_on_one_record_costs_only_that_record(monkeypatch: pytest.MonkeyPatch) -> None:
+    real = engine.find_sites
+
+    def flaky(mol, matcher):  # noqa: ANN001, ANN202
+        if mol.GetNumAtoms() == 5:  # glycine
+            raise RuntimeError("boom")
+        return real(mol, matcher)
+
+    monkeypatch.setattr(engine, "find_sites", flaky)
+    results = list(engine.annotate_many(["OC(=O)c1ccccc1", "NCC(=O)O", "Oc1ccncc1"]))
+    assert [r.status for r in results] == ["ok", "error", "ok"]
+    assert results[1].messages == ("internal error: RuntimeError: boom",)
+    assert [r.id for r in results] == ["0", "1", "2"]

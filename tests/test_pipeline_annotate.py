@@ -78,7 +78,7 @@ def test_run_settings_are_recorded_in_the_file(sdf_chunk: Path, tmp_path: Path) 
     assert json.loads(meta["source"])["format"] == "sdf"
 
 
-def test_an_engine_exception_costs_one_row_not_the_chunk(
+def test_a_parser_exception_costs_one_row_not_the_chunk(
     tmp_path: Path, monkeypatch: pytest.MonkeyPatch, caplog: pytest.LogCaptureFixture
 ) -> None:
     source = tmp_path / "lib.smi"
@@ -98,4 +98,4 @@ def test_an_engine_exception_costs_one_row_not_the_chunk(
     rows = pq.read_table(out).to_pylist()
     assert [r["status"] != "error" for r in rows] == [True, False]
     assert rows[1]["message"] == "internal error: RuntimeError: boom"
-    assert "engine raised on record 'b'" in caplog.text
+    assert "parser raised on record 'b'" in caplog.text

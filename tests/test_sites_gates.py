@@ -18,7 +18,8 @@ DEMO = Path(__file__).parents[1] / "workflow" / "demo" / "library.smi"
 
 def _corpus() -> list[Chem.Mol]:
     """Handbook molecules (tests/data, each row sourced there), every rule's parent, and the demo library."""
-    smiles = [row["smiles"] for name in ("reference_pka.csv", "reference_macro.csv") for row in csv.DictReader((DATA / name).open())]
+    tables = ("reference_pka.csv", "reference_macro.csv")
+    smiles = [row["smiles"] for name in tables for row in csv.DictReader((DATA / name).open())]
     smiles += [rule.parent for rule in load_ruleset(None).groups]
     smiles += [line.split()[0] for line in DEMO.read_text().splitlines()[1:1500] if line.strip()]
     mols = [Chem.MolFromSmiles(s) for s in smiles]

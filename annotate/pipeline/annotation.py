@@ -25,7 +25,7 @@ import pyarrow.parquet as pq
 from rdkit import Chem, rdBase
 
 import annotate
-from annotate.engine import Annotated, annotate_with_parent
+from annotate.engine import BATCH, Annotated, annotate_batch
 from annotate.export.docking_table import DOCKING_SCHEMA, docking_table
 from annotate.export.structures import species_records
 from annotate.io.atomic import atomic_path
@@ -121,25 +121,49 @@ def _annotate_rows(
     parse = _PARSERS[kind]
     names = [f.name for f in carried]
     columns = ["input_index", "record", "id", "read_error", "read_warning", *names]
-    for row in table.select(columns).to_pylist():
-        annotated = _annotate_record(parse, row, settings=settings)
-        if structures is not None:
-            structures.add(row["input_index"], annotated, properties=_input_properties(row, carried=names))
-        yield annotated.result
+    rows = table.select(columns).to_pylist()
+    for start in range(0, len(rows), BATCH):
+        batch = rows[start : start + BATCH]
+        for row, annotated in zip(batch, _annotate_batch(parse, batch, settings=settings), strict=True):
+            if structures is not None:
+                structures.add(row["input_index"], annotated, properties=_input_properties(row, carried=names))
+            yield annotated.result
 
 
-def _annotate_record(parse: Any, row: Mapping[str, Any], *, settings: Settings) -> Annotated:
-    """One result per record, whatever happens; an engine exception is logged, not fatal."""
-    record, id_, error, warning = row["record"], row["id"], row["read_error"], row["read_warning"]
-    if error is not None or record is None:
-        return Annotated(MoleculeResult(id=id_, status="error", messages=(error or "missing structure",)))
-    try:
-        mol, reason = parse(record)
-        annotated = annotate_with_parent(mol, id=id_, settings=settings, reason=reason)
-    except Exception as exc:  # the engine promises not to raise; one bad record must not sink the chunk
-        log.error("engine raised on record %r:\n%s", id_, traceback.format_exc())
-        message = f"internal error: {type(exc).__name__}: {exc}"
-        return Annotated(MoleculeResult(id=id_, status="error", messages=(message,)))
+def _annotate_batch(parse: Any, rows: Sequence[Mapping[str, Any]], *, settings: Settings) -> list[Annotated]:
+    """One result per record, whatever happens; a parser exception is logged, not fatal.
+
+    Records the split could not read, or that do not parse, reach the engine as
+    None with their reason, so the engine writes every row of the batch.
+    """
+    mols: list[Chem.Mol | None] = []
+    reasons: list[str | None] = []
+    for row in rows:
+        mol, reason = None, None
+        if not _was_read(row):
+            reason = row["read_error"] or "missing structure"
+        else:
+            try:
+                mol, reason = parse(row["record"])
+            except Exception as exc:  # the parsers promise not to raise; one bad record must not sink the chunk
+                log.error("parser raised on record %r:\n%s", row["id"], traceback.format_exc())
+                reason = f"internal error: {type(exc).__name__}: {exc}"
+        mols.append(mol)
+        reasons.append(reason)
+    ids = [row["id"] for row in rows]
+    annotated = annotate_batch(mols, ids=ids, reasons=reasons, settings=settings, owned=True)
+    return [
+        _with_read_warning(a, row["read_warning"]) if _was_read(row) else a
+        for a, row in zip(annotated, rows, strict=True)
+    ]
+
+
+def _was_read(row: Mapping[str, Any]) -> bool:
+    return row["read_error"] is None and row["record"] is not None
+
+
+def _with_read_warning(annotated: Annotated, warning: str | None) -> Annotated:
+    """A reading problem the split noted is a warning on top of the engine's verdict."""
     if warning is None:
         return annotated
     result = annotated.result
