@@ -14,7 +14,7 @@ rule annotate_chunk:
     threads: 1
     resources:
         mem_mb=CHUNK_MEM_MB,
-        runtime=CHUNK_RUNTIME_MIN,
+        runtime=lambda wildcards, attempt: CHUNK_RUNTIME_MIN * attempt,
     params:
         settings=SETTINGS,
         docking=asdict(DOCKING),
