@@ -226,10 +226,6 @@ def _speciate(record: _Record, *, settings: Settings) -> None:
     record.annotated = Annotated(result, mol, sites)
 
 
-def _sites(mol: Chem.Mol, rules: RuleSet) -> tuple[Site, ...]:
-    return _estimated(mol, find_sites(mol, rules.matcher), rules)
-
-
 def _estimated(mol: Chem.Mol, matches: list[SiteMatch], rules: RuleSet) -> tuple[Site, ...]:
     index = SubstituentIndex(mol, rules.substituents)
     return tuple(

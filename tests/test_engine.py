@@ -10,11 +10,11 @@ from rdkit import Chem
 import annotate.engine as engine
 from annotate import Settings, annotate_mol, annotate_smiles
 from annotate.engine import (
+    _estimated,
     _model,
     _on_atom,
     _ph_state,
     _site_distances,
-    _sites,
     _SpeciesTable,
     _with_interactions,
     annotate_batch,
@@ -22,6 +22,7 @@ from annotate.engine import (
 from annotate.parse import mol_from_smiles
 from annotate.results import Site
 from annotate.ruleset import load_ruleset
+from annotate.sites.perceive import find_sites
 from annotate.standardize import parent_of
 
 THREE_PH = Settings(ph=(2.0, 7.4, 10.0), max_species=6)
@@ -71,7 +72,7 @@ def test_pH_values_share_work_without_changing_results() -> None:
     rules = load_ruleset(None)
     for smiles in ("NCC(=O)O", "OC(=O)CC(O)(CC(=O)O)C(=O)O", "NCCNCCN", "Oc1ccc(cc1)C(=O)O"):
         mol = parent_of(Chem.MolFromSmiles(smiles)).mol
-        sites = _sites(mol, rules)
+        sites = _estimated(mol, find_sites(mol, rules.matcher), rules)
         model = _model(mol, sites, THREE_PH, rules)
         sites = _with_interactions(sites, model)
         parent_smiles = Chem.MolToSmiles(mol)

@@ -8,7 +8,6 @@ from functools import cached_property
 from rdkit import Chem
 
 from annotate.pka.graph import MolGraph
-from annotate.sites.rules import required_elements
 from annotate.tables import Row, load_table, packaged
 
 SUBSTITUENT_COLUMNS = ("name", "smarts", "sigma_m", "sigma_p", "sigma_i", "source")
@@ -97,6 +96,11 @@ def parse_substituent_row(row: Row) -> Substituent:
         root_query=root_query,
         root_only=root_query is not None and pattern.GetNumAtoms() == 1,
     )
+
+
+def required_elements(pattern: Chem.Mol) -> frozenset[int]:
+    """Elements every match needs; a molecule lacking one skips the pattern cheaply."""
+    return frozenset(a.GetAtomicNum() for a in pattern.GetAtoms() if a.GetAtomicNum() > 0)
 
 
 def _root_neighbours(pattern: Chem.Mol | None) -> tuple[tuple[int, int], ...]:

@@ -42,11 +42,6 @@ class GroupRule:
         return f"GroupRule({self.name!r}, {self.kind}, {self.smarts!r}, pKa {self.pka})"
 
 
-def required_elements(pattern: Chem.Mol) -> frozenset[int]:
-    """Elements every match needs; a molecule lacking one skips the pattern cheaply."""
-    return frozenset(a.GetAtomicNum() for a in pattern.GetAtoms() if a.GetAtomicNum() > 0)
-
-
 def _map_index(pattern: Chem.Mol, number: int) -> int | None:
     for atom in pattern.GetAtoms():
         if atom.GetAtomMapNum() == number:
