@@ -5,6 +5,9 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
+#: two pH values closer than this are the same configured pH (they come from one config)
+PH_TOLERANCE = 1e-6
+
 
 @dataclass(frozen=True, slots=True)
 class Settings:

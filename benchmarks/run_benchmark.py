@@ -32,6 +32,7 @@ from rdkit import Chem, rdBase
 
 import annotate
 from annotate import Settings, annotate_many, annotate_smiles
+from annotate.pipeline.config import suggested_chunk_size
 
 ROOT = Path(__file__).resolve().parents[1]
 MAKE_LIBRARY = ROOT / "benchmarks" / "make_library.py"
@@ -90,6 +91,7 @@ class WorkflowRun:
 class SizeResult:
     size: int
     sample: int
+    chunk_size: int
     floor: Timing
     engine: dict[str, Timing]  # "1ph" / "3ph"
     engine_statuses: dict[str, dict[str, int]]
@@ -270,7 +272,8 @@ def measure_size(size: int, *, args: argparse.Namespace) -> SizeResult:
         )
     floor = timings.pop("floor")
     engine = timings
-    result = SizeResult(size, len(records), floor, engine, {k: dict(v) for k, v in statuses.items()})
+    chunk_size = args.chunk_size or suggested_chunk_size(size, cores=max(args.cores))
+    result = SizeResult(size, len(records), chunk_size, floor, engine, {k: dict(v) for k, v in statuses.items()})
     if args.skip_workflow:
         return result
     library = prefix.with_name(f"{prefix.name}.{args.workflow_input}").resolve()
@@ -279,7 +282,7 @@ def measure_size(size: int, *, args: argparse.Namespace) -> SizeResult:
         print(f"[{size}] workflow --cores {cores}{' (split only)' * only_split} ...", file=sys.stderr, flush=True)
         run_dir = args.workdir / "runs" / f"{size}_cores{cores}"
         config = workflow_config(
-            library=library, outdir=run_dir / "results", chunk_size=args.chunk_size, extra=args.config_extra
+            library=library, outdir=run_dir / "results", chunk_size=chunk_size, extra=args.config_extra
         )
         until = "split_library" if only_split else None
         try:
@@ -304,7 +307,7 @@ def format_table(report: dict[str, object]) -> str:
         ratios, floor = entry["ratios"], entry["floor"]["per_core_cpu"]
         lines += [
             f"library {entry['size']:,} molecules; floor/engine sample {entry['sample']:,}; "
-            f"chunk_size {report['settings']['chunk_size']:,}; workflow input {report['settings']['workflow_input']}",
+            f"chunk_size {entry['chunk_size']:,}; workflow input {report['settings']['workflow_input']}",
             f"  {'figure':<36}{'mol/s/core cpu':>15}{'mol/s/core wall':>16}{'x floor':>9}  target",
         ]
 
@@ -356,7 +359,9 @@ def parse_args(argv: Sequence[str] | None) -> argparse.Namespace:
     parser.add_argument("--sizes", type=int, nargs="+", default=[100_000], help="library sizes, each its own library")
     parser.add_argument("--workdir", type=Path, default=ROOT / "benchmarks" / "out")
     parser.add_argument("--engine-sample", type=int, default=20_000, help="records timed for (a) and (b)")
-    parser.add_argument("--chunk-size", type=int, default=10_000)
+    parser.add_argument(
+        "--chunk-size", type=int, default=None, help="default: as README 'Sizing chunks' advises for the size and cores"
+    )
     parser.add_argument("--cores", type=int, nargs="+", default=[1, 2], help="workflow runs, one per value")
     parser.add_argument("--workflow-input", choices=("parquet", "sdf"), default="parquet")
     parser.add_argument("--config-extra", type=_yaml_mapping, default={}, help="YAML/JSON of workflow config keys")

@@ -16,6 +16,7 @@ from snakemake.utils import validate
 
 from annotate.io.library import LibrarySpec
 from annotate.pipeline import expand_library_shorthand, library_specs, settings_from_config
+from annotate.pipeline.config import suggested_chunk_size
 from annotate.settings import Settings
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -154,3 +155,18 @@ def test_the_workflow_itself_refuses_a_bad_config_naming_the_key(tmp_path: Path)
     assert "Error validating config file" in run.stdout
     assert "15 is greater than the maximum of 14" in run.stdout
     assert "On instance['ph'][0]" in run.stdout
+
+
+@pytest.mark.parametrize(
+    ("records", "cores", "expected"),
+    [
+        (100_000, 2, 10_000),  # 5,000 per chunk would double the jobs for no idle core saved
+        (400_000, 2, 20_000),  # ten chunks per core
+        (1_000_000, 2, 50_000),
+        (1_000_000, 1, 50_000),  # capped: a job of a minute or so
+        (10_000_000, 128, 10_000),  # 7,813 per chunk, raised to the floor
+        (3, 4, 10_000),
+    ],
+)
+def test_suggested_chunk_size_follows_the_readme_rule(records: int, cores: int, expected: int) -> None:
+    assert suggested_chunk_size(records, cores=cores) == expected

@@ -99,3 +99,32 @@ def test_a_parser_exception_costs_one_row_not_the_chunk(
     assert [r["status"] != "error" for r in rows] == [True, False]
     assert rows[1]["message"] == "internal error: RuntimeError: boom"
     assert "parser raised on record 'b'" in caplog.text
+
+
+def test_a_chunk_is_written_row_group_by_row_group_with_the_same_rows(
+    sdf_chunk: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    """Memory per job must not grow with chunk_size: records are annotated and written a row group at a time."""
+    whole = tmp_path / "whole.parquet"
+    annotate_chunk(sdf_chunk, whole, settings=Settings())
+    monkeypatch.setattr(module, "ROW_GROUP", 2)
+    parts = tmp_path / "parts.parquet"
+    annotate_chunk(sdf_chunk, parts, settings=Settings())
+    assert pq.ParquetFile(whole).num_row_groups == 1
+    assert pq.ParquetFile(parts).num_row_groups == 2
+    assert pq.read_table(parts).equals(pq.read_table(whole))
+    assert pq.read_schema(parts).metadata == pq.read_schema(whole).metadata
+
+
+def test_an_empty_chunk_gives_an_empty_table_with_the_schema(tmp_path: Path) -> None:
+    source = tmp_path / "lib.smi"
+    source.write_text("CCO a\n")
+    split_library(LibrarySpec(name="lib", path=source), tmp_path / "chunks", chunk_size=10)
+    chunk = tmp_path / "chunks" / "000000.parquet"
+    table = pq.read_table(chunk)
+    pq.write_table(table.slice(0, 0).replace_schema_metadata(table.schema.metadata), chunk)
+    out = tmp_path / "annotated.parquet"
+    annotate_chunk(chunk, out, settings=Settings())
+    written = pq.read_table(out)
+    assert written.num_rows == 0
+    assert written.schema.remove_metadata().names[: len(ANNOTATION_SCHEMA)] == ANNOTATION_SCHEMA.names

@@ -78,7 +78,7 @@ def test_config_extra_cannot_move_the_library_or_its_outputs(tmp_path: Path) -> 
 def _result() -> object:
     floor = rb.Timing(1000, wall_s=2.0, cpu_s=1.0)  # 1000 mol/CPU-s
     engine = {"1ph": rb.Timing(1000, 6.0, 5.0), "3ph": rb.Timing(1000, 7.0, 6.0)}  # 200 and 166.7 mol/CPU-s
-    result = rb.SizeResult(10_000, 1000, floor, engine, {"1ph": {"ok": 1000}, "3ph": {"ok": 1000}})
+    result = rb.SizeResult(10_000, 1000, 2_000, floor, engine, {"1ph": {"ok": 1000}, "3ph": {"ok": 1000}})
     runs = {1: rb.Timing(10_000, 70.0, 60.0, 1), 2: rb.Timing(10_000, 40.0, 62.0, 2)}
     for cores, timing in runs.items():
         jobs = {"annotate_chunk": {"wall": 50.0, "cpu": 45.0, "jobs": 2}}
@@ -108,6 +108,7 @@ def test_table_marks_met_and_missed_targets() -> None:
     speedup_row = next(line for line in lines if "speed-up" in line)
     assert "ok (<= 5)" in engine_row  # exactly on the target counts as met
     assert "1.75 MISSED (>= 1.8)" in speedup_row
+    assert "chunk_size 2,000;" in lines[0]  # the size's own, not a run-wide setting
     assert "annotate_chunk 2x 45.0s/300MB" in rb.format_table(report)
 
 

@@ -2,17 +2,25 @@
 
 pKa values and protonation states are estimates; verify decisions that matter
 (formulation, safety, dosing) with measurements and qualified review.
+
+Names are loaded on first use, as in :mod:`annotate.pipeline`: the chunk jobs
+build docking records and must not pay for the filters' Polars import.
 """
 
-from annotate.export.filters import FilterSpec, apply_filters, filter_expression, ionization_class
-from annotate.export.structures import docking_records, write_sdf, write_smiles
+from __future__ import annotations
 
-__all__ = [
-    "FilterSpec",
-    "apply_filters",
-    "docking_records",
-    "filter_expression",
-    "ionization_class",
-    "write_sdf",
-    "write_smiles",
-]
+from typing import TYPE_CHECKING
+
+from annotate.lazy import lazy_exports
+
+if TYPE_CHECKING:
+    from annotate.export.filters import FilterSpec, apply_filters, filter_expression, ionization_class
+    from annotate.export.structures import docking_records, write_sdf, write_smiles
+
+__all__, __getattr__, __dir__ = lazy_exports(
+    __name__,
+    {
+        "filters": ["FilterSpec", "apply_filters", "filter_expression", "ionization_class"],
+        "structures": ["docking_records", "write_sdf", "write_smiles"],
+    },
+)

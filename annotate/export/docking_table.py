@@ -18,10 +18,10 @@ import pyarrow as pa
 import pyarrow.compute as pc
 from rdkit import Chem
 
-from annotate.export.filters import PH_TOLERANCE
 from annotate.export.structures import SMILES_HEADER, record_smiles, sdf_text, smiles_line
 from annotate.io.atomic import atomic_path
 from annotate.io.tables import parquet_batches
+from annotate.settings import PH_TOLERANCE
 
 StructureFormat = Literal["sdf", "smi"]
 STRUCTURE_FORMATS: dict[str, StructureFormat] = {".sdf": "sdf", ".smi": "smi"}

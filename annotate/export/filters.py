@@ -23,11 +23,10 @@ from rdkit import Chem
 from annotate.io.atomic import atomic_path
 from annotate.io.schema import META_PREFIX
 from annotate.io.tables import parquet_batches
+from annotate.settings import PH_TOLERANCE
 
 IonClass = Literal["neutral", "acid", "base", "zwitterion", "permanent"]
 ION_CLASSES: frozenset[str] = frozenset({"neutral", "acid", "base", "zwitterion", "permanent"})
-#: two pH values closer than this are the same configured pH (they come from one config)
-PH_TOLERANCE = 1e-6
 
 
 @dataclass(frozen=True, slots=True)

@@ -12,12 +12,15 @@ from __future__ import annotations
 
 import os
 from collections.abc import Iterator, Sequence
+from typing import TYPE_CHECKING
 
-import polars as pl
 import pyarrow as pa
 import pyarrow.parquet as pq
 
 from annotate.io.library import LibrarySpec
+
+if TYPE_CHECKING:
+    import polars as pl
 
 #: rows per batch when reading a whole file: a few MB of Arrow data even for wide
 #: annotated rows, and small enough that the allocator's leftovers stay small too
@@ -36,6 +39,8 @@ def table_schema(spec: LibrarySpec, *, text_columns: tuple[str, ...]) -> pa.Sche
     """The Arrow schema batches will have, known even when there are no rows."""
     if spec.resolved_format == "parquet":
         return pq.read_schema(spec.path).remove_metadata()
+    import polars as pl  # here, not at the top: the chunk jobs read Parquet through this module
+
     schema = _scan_csv(spec, text_columns=text_columns, infer=True).collect_schema()
     return _plain_strings(pl.DataFrame(schema=schema).to_arrow()).schema
 
@@ -65,6 +70,8 @@ def parquet_batches(
 
 
 def _scan_csv(spec: LibrarySpec, *, text_columns: tuple[str, ...], infer: bool) -> pl.LazyFrame:
+    import polars as pl
+
     return pl.scan_csv(
         spec.path,
         separator=_SEPARATORS[spec.resolved_format],

@@ -35,9 +35,11 @@ from annotate.io.schema import (
     NOTICE,
     annotation_table,
     input_fields,
+    output_schema,
     read_run_metadata,
     run_metadata,
 )
+from annotate.io.tables import parquet_batches
 from annotate.parse import mol_from_molblock, mol_from_smiles
 from annotate.pipeline.docking import DockingOptions
 from annotate.results import MoleculeResult
@@ -49,6 +51,9 @@ log = logging.getLogger(__name__)
 _PARSERS = {"smiles": mol_from_smiles, "molblock": mol_from_molblock}
 #: records whose docking rows are written together, bounding what a job holds besides its results
 _DOCKING_BATCH = 256
+#: records read, annotated and written as one Parquet row group: what a job holds at once,
+#: whatever the chunk size (a 50,000-record chunk needs no more memory than a 5,000 one)
+ROW_GROUP = 8192
 
 
 def annotate_chunk(
@@ -73,34 +78,38 @@ def annotate_chunk(
     # A bad rule file must fail the job, not turn every record into an "internal error" row.
     load_ruleset(settings.user_rules)
     chunk = Path(chunk)
-    table = pq.read_table(chunk)
-    meta = read_run_metadata(table.schema)
+    source_schema = pq.read_schema(chunk)
+    meta = read_run_metadata(source_schema)
     library = meta["library"]
-    carried = input_fields(table.schema, core=CHUNK_SCHEMA)
+    carried = input_fields(source_schema, core=CHUNK_SCHEMA)
+    metadata = run_metadata(
+        library=library, source=json.loads(meta["source"]), settings=settings, version=annotate.__version__
+    )
+    schema = output_schema(carried, metadata=metadata)
+    counts: Counter[str] = Counter()
     with ExitStack() as stack:
         structures = None
         if docking_out is not None:
             structures = stack.enter_context(_DockingWriter(docking_out, settings=settings, options=docking))
-        results = list(_annotate_rows(table, kind=meta["record_kind"], carried=carried, settings=settings, structures=structures))
-        core = annotation_table(
-            results,
-            library=library,
-            input_index=table.column("input_index").to_pylist(),
-            ids=table.column("id").to_pylist(),
-        )
-        source = json.loads(meta["source"])
-        metadata = run_metadata(library=library, source=source, settings=settings, version=annotate.__version__)
-        out_table = pa.Table.from_arrays(
-            [*core.columns, *(table.column(f.name) for f in carried)],
-            schema=pa.schema([*core.schema, *carried], metadata=metadata),
-        )
-        with atomic_path(out) as tmp:
-            pq.write_table(out_table, tmp, compression="zstd")
-    counts = Counter(r.status for r in results)
+        tmp = stack.enter_context(atomic_path(out))
+        writer = stack.enter_context(pq.ParquetWriter(tmp, schema, compression="zstd"))
+        for part in parquet_batches(chunk, batch_rows=ROW_GROUP):
+            rows = pa.Table.from_batches([part])
+            results = list(_annotate_rows(rows, kind=meta["record_kind"], carried=carried, settings=settings, structures=structures))
+            core = annotation_table(
+                results,
+                library=library,
+                input_index=rows.column("input_index").to_pylist(),
+                ids=rows.column("id").to_pylist(),
+            )
+            writer.write_table(
+                pa.Table.from_arrays([*core.columns, *(rows.column(f.name) for f in carried)], schema=schema)
+            )
+            counts.update(r.status for r in results)
     log.info(
         "%s: %d records (ok %d, warning %d, error %d) in %.1f s",
         chunk.name,
-        len(results),
+        counts.total(),
         counts["ok"],
         counts["warning"],
         counts["error"],

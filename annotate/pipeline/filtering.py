@@ -19,9 +19,10 @@ import numpy as np
 import polars as pl
 import pyarrow as pa
 
-from annotate.export.filters import PH_TOLERANCE, FilterSpec, apply_filters
+from annotate.export.filters import FilterSpec, apply_filters
 from annotate.io.atomic import atomic_path
 from annotate.io.tables import parquet_batches
+from annotate.settings import PH_TOLERANCE
 from annotate.qc.filters import filter_counts, write_filter_counts
 
 log = logging.getLogger(__name__)

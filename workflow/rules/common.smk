@@ -66,8 +66,10 @@ FILTER_FILES = {
 # Docking records are built in annotate_chunk's pass; with no docking file and no
 # filter to use them, the job writes an empty docking table and skips the work.
 BUILD_DOCKING = bool(DOCKING_FORMATS or FILTERS)
-# Requests of one annotate_chunk job: 0.03 s and 0.1 MB per record for the annotation
-# (about 30 times the ~1 ms measured, README "Sizing chunks"), plus per record and pH
+# Requests of one annotate_chunk job: 1 GB plus 0.01 MB per record (a job holds one
+# row group of 8,192 records at a time: about 260 MB at 10,000 records and 290 MB at
+# 50,000 were measured), and 0.03 s per record for the annotation (about 30 times
+# the ~1 ms measured, README "Sizing chunks"), plus per record and pH
 # 0.05 s for docking records (0.5 s when embedding in 3D), on top of start-up. The
 # runtime grows with each retry (annotate.smk), so a chunk of unusually slow molecules
 # killed at its wall time gets more the next time; override with `set-resources`.
@@ -75,7 +77,7 @@ DOCKING_SECONDS = 0.5 if DOCKING.embed_3d else 0.05
 CHUNK_SECONDS = CHUNK_SIZE * (
     0.03 + BUILD_DOCKING * len(config["ph"]) * DOCKING_SECONDS
 )
-CHUNK_MEM_MB = 1000 + CHUNK_SIZE // 10
+CHUNK_MEM_MB = 1000 + CHUNK_SIZE // 100
 CHUNK_RUNTIME_MIN = 10 + int(CHUNK_SECONDS / 60)
 
 
