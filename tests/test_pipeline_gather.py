@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from functools import partial
 from pathlib import Path
 
 import polars as pl
@@ -11,6 +12,7 @@ import pytest
 
 from annotate.io.library import LibrarySpec
 from annotate.io.schema import ANNOTATION_SCHEMA, NOTICE, read_run_metadata
+from annotate.io.tables import parquet_batches
 from annotate.pipeline import RecordCountError, annotate_chunk, gather_annotations, split_library
 from annotate.settings import Settings
 
@@ -94,3 +96,21 @@ def test_empty_library_gives_an_empty_typed_file(tmp_path: Path) -> None:
     table = pq.read_table(out)
     assert table.num_rows == 0
     assert table.schema.remove_metadata().equals(ANNOTATION_SCHEMA)
+
+
+def test_chunks_read_in_batches_give_the_same_file_and_the_same_checks(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    """Memory must not grow with chunk_size: each chunk is read a batch at a time."""
+    chunk_dir, annotated = build(tmp_path, sdf([(f"m{i}", {"a": str(i)}) for i in range(7)]), chunk_size=4)
+    whole = tmp_path / "whole.parquet"
+    gather_annotations(chunk_dir, annotated, whole)
+    monkeypatch.setattr("annotate.pipeline.gather.parquet_batches", partial(parquet_batches, batch_rows=2))
+    batched = tmp_path / "batched.parquet"
+    gather_annotations(chunk_dir, annotated, batched)
+    assert pq.read_table(batched).equals(pq.read_table(whole))
+    assert pq.ParquetFile(batched).metadata.num_row_groups == 4  # 2+2 of the first chunk, 2+1 of the second
+    table = pq.read_table(annotated[0])  # a swap inside the second batch of a chunk is still found
+    pq.write_table(table.take(pa.array([0, 1, 3, 2])), annotated[0])
+    with pytest.raises(RecordCountError, match="should hold records 0..3 in order"):
+        gather_annotations(chunk_dir, annotated, tmp_path / "swapped.parquet")

@@ -1,7 +1,8 @@
 """Merge a library's annotated chunks into one Parquet file, in input order.
 
-Streams one chunk at a time (one row group each) and refuses to write the
-result unless every input record came back exactly once, in order.
+Streams each chunk in batches, so memory depends neither on the library's size
+nor on ``chunk_size``, and refuses to write the result unless every input record
+came back exactly once, in order.
 """
 
 from __future__ import annotations
@@ -10,12 +11,12 @@ import logging
 from collections.abc import Sequence
 from pathlib import Path
 
-import polars as pl
 import pyarrow as pa
 import pyarrow.parquet as pq
 
 from annotate.io.atomic import atomic_path
 from annotate.io.schema import ANNOTATION_SCHEMA, META_PREFIX, input_fields, output_schema, read_run_metadata
+from annotate.io.tables import parquet_batches
 from annotate.pipeline.manifest import ChunkEntry, Manifest, read_manifest
 
 log = logging.getLogger(__name__)
@@ -35,10 +36,15 @@ def gather_annotations(chunk_dir: str | Path, annotated: Sequence[str | Path], o
     written = 0
     with atomic_path(out) as tmp, pq.ParquetWriter(tmp, schema, compression="zstd") as writer:
         for entry, path in zip(manifest.chunks, paths, strict=True):
-            table = pq.ParquetFile(path).read()  # pq.read_table would import pandas, 44 MB more
-            _check_rows(manifest, entry, table)
-            writer.write_table(_conform(table, schema))
-            written += table.num_rows
+            found = 0
+            for batch in parquet_batches(path):
+                table = pa.Table.from_batches([batch])
+                _check_rows(manifest, entry, table, start=found)
+                writer.write_table(_conform(table, schema))
+                found += table.num_rows
+            if found != entry.records:
+                raise RecordCountError(_chunk_message(manifest, entry, found))
+            written += found
         if written != manifest.records:
             raise RecordCountError(_count_message(manifest, written, detail="rows written"))
     log.info("library %s: %d rows from %d chunk(s) -> %s", manifest.library, written, len(paths), out)
@@ -53,15 +59,21 @@ def _check_chunk_list(manifest: Manifest, paths: list[Path]) -> None:
         )
 
 
-def _check_rows(manifest: Manifest, entry: ChunkEntry, table: pa.Table) -> None:
-    expected = pl.int_range(entry.first_index, entry.first_index + entry.records, dtype=pl.Int64, eager=True)
-    found = pl.Series(table.column("input_index"))
-    if table.num_rows != entry.records or not found.equals(expected, check_names=False):
-        last = entry.first_index + entry.records - 1
-        raise RecordCountError(
-            _count_message(manifest, table.num_rows, detail=f"rows in chunk {entry.name}")
-            + f"; chunk {entry.name} should hold records {entry.first_index}..{last} in order"
-        )
+def _check_rows(manifest: Manifest, entry: ChunkEntry, table: pa.Table, *, start: int) -> None:
+    """``table`` holds rows ``start`` onwards of ``entry``: the next input indices, in order."""
+    first = entry.first_index + start
+    expected = pa.array(range(first, first + table.num_rows), type=pa.int64())
+    found = table.column("input_index").combine_chunks().cast(pa.int64())
+    if start + table.num_rows > entry.records or not found.equals(expected):
+        raise RecordCountError(_chunk_message(manifest, entry, start + table.num_rows))
+
+
+def _chunk_message(manifest: Manifest, entry: ChunkEntry, found: int) -> str:
+    last = entry.first_index + entry.records - 1
+    return (
+        _count_message(manifest, found, detail=f"rows in chunk {entry.name}")
+        + f"; chunk {entry.name} should hold records {entry.first_index}..{last} in order"
+    )
 
 
 def _count_message(manifest: Manifest, found: int, *, detail: str) -> str:
