@@ -195,6 +195,15 @@ def test_only_the_user_libraries_were_annotated(workdir: Path, first_run: str) -
     assert "demo_sdf" not in first_run and "demo_parquet" not in first_run
 
 
+def test_without_filters_no_filter_job_runs_and_qc_does_not_wait_for_one(workdir: Path, first_run: str) -> None:
+    """The default config has a filter (the control: the first run's filter jobs)."""
+    assert jobs_of("filter_library", first_run) == len(LIBRARIES)
+    dry = snakemake(workdir, "--dry-run", "--config", "outdir=nofilters", "filters=[]").stdout
+    assert jobs_of("filter_library", dry) == 0
+    assert jobs_of("summarize_qc", dry) == 2  # the two demo libraries
+    assert "filters.tsv" not in dry
+
+
 def test_without_a_configfile_the_demo_libraries_run(workdir: Path, first_run: str) -> None:
     """The control for the test above: the default config does name demo libraries that exist."""
     dry = snakemake(workdir, "--dry-run", "--config", "outdir=control").stdout

@@ -63,6 +63,9 @@ FILTER_FILES = {
     ext: [f"{OUTDIR}/{{library}}/filters/{spec.name}.{ext}" for spec in FILTERS]
     for ext in ("parquet", "sdf")
 }
+# With no filters the filter job would only write an empty table, one more job on
+# the single-file path after the chunks; the QC summary then has no filter section.
+FILTER_COUNTS = [f"{OUTDIR}/{{library}}/qc/filters.tsv"] if FILTERS else []
 # Docking records are built in annotate_chunk's pass; with no docking file and no
 # filter to use them, the job writes an empty docking table and skips the work.
 BUILD_DOCKING = bool(DOCKING_FORMATS or FILTERS)
@@ -129,6 +132,6 @@ def final_outputs():
         *rules.summarize_qc.output,
         *rules.plot_qc.output,
         *DOCKING_FILES,
-        *rules.filter_library.output,
+        *(rules.filter_library.output if FILTERS else []),
     ]
     return expand(finals, library=LIBRARIES)

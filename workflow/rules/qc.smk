@@ -1,7 +1,7 @@
 rule summarize_qc:
     input:
         annotated=f"{OUTDIR}/{{library}}/annotated.parquet",
-        filters=f"{OUTDIR}/{{library}}/qc/filters.tsv",
+        filters=FILTER_COUNTS,
     output:
         counts=report(
             f"{OUTDIR}/{{library}}/qc/counts.tsv",

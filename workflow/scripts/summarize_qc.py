@@ -6,4 +6,5 @@ sys.stderr = open(snakemake.log[0], "w")  # first, so that even import errors re
 
 from annotate.qc.report import write_qc  # noqa: E402
 
-write_qc(snakemake.input.annotated, outputs=dict(snakemake.output.items()), filters=snakemake.input.filters)
+filters = snakemake.input.filters  # [] when no filter is configured
+write_qc(snakemake.input.annotated, outputs=dict(snakemake.output.items()), filters=filters[0] if filters else None)
