@@ -95,7 +95,9 @@ def annotate_chunk(
         writer = stack.enter_context(pq.ParquetWriter(tmp, schema, compression="zstd"))
         for part in parquet_batches(chunk, batch_rows=ROW_GROUP):
             rows = pa.Table.from_batches([part])
-            results = list(_annotate_rows(rows, kind=meta["record_kind"], carried=carried, settings=settings, structures=structures))
+            results = list(
+                _annotate_rows(rows, kind=meta["record_kind"], carried=carried, settings=settings, structures=structures)
+            )
             core = annotation_table(
                 results,
                 library=library,

@@ -70,7 +70,7 @@ FILTER_COUNTS = [f"{OUTDIR}/{{library}}/qc/filters.tsv"] if FILTERS else []
 # filter to use them, the job writes an empty docking table and skips the work.
 BUILD_DOCKING = bool(DOCKING_FORMATS or FILTERS)
 # Requests of one annotate_chunk job: 1 GB plus 0.01 MB per record (a job holds one
-# row group of 8,192 records at a time: about 260 MB at 10,000 records and 290 MB at
+# row group of 8,192 records at a time: about 230 MB at 10,000 records and 265 MB at
 # 50,000 were measured), and 0.03 s per record for the annotation (about 30 times
 # the ~1 ms measured, README "Sizing chunks"), plus per record and pH
 # 0.05 s for docking records (0.5 s when embedding in 3D), on top of start-up. The
