@@ -15,6 +15,7 @@ from dataclasses import asdict
 from pathlib import Path
 from typing import Any
 
+from annotate.draw import write_card
 from annotate.engine import annotate_smiles
 from annotate.results import MoleculeResult, Site
 from annotate.ruleset import load_ruleset
@@ -76,6 +77,14 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument(
         "--rules", type=Path, metavar="FILE",
         help="tab-separated group rule table whose rows replace or extend the packaged ones",
+    )
+    parser.add_argument(
+        "--draw", type=Path, metavar="DIR",
+        help="also write one picture per molecule (structure with numbered sites, legend, species across pH) into DIR",
+    )
+    parser.add_argument(
+        "--draw-format", choices=("svg", "png"), default="svg",
+        help="picture format for --draw (default %(default)s)",
     )
     view = parser.add_mutually_exclusive_group()
     view.add_argument("--json", action="store_true", help="print one JSON object per line and molecule")
@@ -173,6 +182,8 @@ def main(argv: list[str] | None = None) -> int:
             print(json.dumps(as_json(result), ensure_ascii=False))
         else:
             print(report(result, smiles, explain=not args.no_explain), end="\n\n")
+        if args.draw:
+            write_card(result, smiles, args.draw, fmt=args.draw_format, settings=settings)
     # the JSON stream stays machine-readable; the caution still reaches the terminal
     print(CAUTION, file=sys.stderr if args.json else sys.stdout)
     if failed:

@@ -58,6 +58,8 @@ def _structure(parent_smiles: str, sites: Sequence[Site]) -> str:
     options = drawer.drawOptions()
     options.useBWAtomPalette()
     options.annotationFontScale = 0.8
+    options.maxFontSize = 18  # small molecules otherwise get huge letters
+    options.fixedBondLength = 34
     options.clearBackground = False
     drawer.DrawMolecule(mol)
     drawer.FinishDrawing()
@@ -92,7 +94,7 @@ def species_label(charge: int, protonated: Sequence[bool]) -> str:
     return f"{signed}, H on {' '.join(on) if on else 'none'}" if protonated else signed
 
 
-def _curves(smiles: str, settings: Settings) -> dict[tuple[int, tuple[bool, ...]], list[float]]:
+def species_curves(smiles: str, settings: Settings) -> dict[tuple[int, tuple[bool, ...]], list[float]]:
     """Fraction of each microspecies on GRID, keyed by (charge, protonation pattern)."""
     grid_settings = replace(settings, ph=GRID, min_fraction=0.0, max_species=64)
     result = annotate_smiles(smiles, settings=grid_settings)
@@ -106,7 +108,7 @@ def _curves(smiles: str, settings: Settings) -> dict[tuple[int, tuple[bool, ...]
 def _plot(smiles: str, settings: Settings, x: int, y: int) -> tuple[str, int]:
     """Species fractions vs pH, chosen pH values as dashed verticals, labels at each curve's peak."""
     w, h = 400, 200
-    curves = _curves(smiles, settings)
+    curves = species_curves(smiles, settings)
     parts = [f'<g font-family="sans-serif" font-size="10" fill="{INK}">',
              f'<text x="{x}" y="{y - 16}" font-size="12" font-weight="bold">species fraction across pH</text>',
              f'<rect x="{x}" y="{y}" width="{w}" height="{h}" fill="none" stroke="{GREY}"/>']
@@ -177,19 +179,24 @@ def _safe_name(text: str) -> str:
     return cleaned[:80] or "molecule"
 
 
+def write_card(result: MoleculeResult, smiles: str, directory: Path, *, fmt: str = "svg",
+               settings: Settings | None = None) -> Path:
+    """Write the card of an annotated molecule as ``directory/<id>.<fmt>``."""
+    directory.mkdir(parents=True, exist_ok=True)
+    svg = card_svg(smiles, id=result.id, settings=settings, result=result)
+    path = directory / f"{_safe_name(result.id)}.{fmt}"
+    if fmt == "png":
+        import cairosvg  # imported here: SVG cards need no cairo
+
+        cairosvg.svg2png(bytestring=svg.encode(), write_to=str(path))
+    else:
+        path.write_text(svg, encoding="utf-8")
+    return path
+
+
 def write_cards(items: Iterable[tuple[str, str]], directory: Path, *, fmt: str = "svg",
                 settings: Settings | None = None) -> list[Path]:
-    """Write one card per (id, SMILES) into ``directory``; PNG needs cairosvg."""
-    directory.mkdir(parents=True, exist_ok=True)
-    written = []
-    for mol_id, smiles in items:
-        svg = card_svg(smiles, id=mol_id, settings=settings)
-        path = directory / f"{_safe_name(mol_id)}.{fmt}"
-        if fmt == "png":
-            import cairosvg  # optional: only needed for PNG output
-
-            cairosvg.svg2png(bytestring=svg.encode(), write_to=str(path))
-        else:
-            path.write_text(svg, encoding="utf-8")
-        written.append(path)
-    return written
+    """Annotate and draw each (id, SMILES); one file per molecule, failures get a message card."""
+    settings = settings or Settings()
+    return [write_card(annotate_smiles(smiles, id=mol_id, settings=settings), smiles, directory,
+                       fmt=fmt, settings=settings) for mol_id, smiles in items]
