@@ -162,9 +162,18 @@ def card_svg(smiles: str, *, id: str = "", settings: Settings | None = None,
         height = max(plot_end, STRUCT + 50) + 30
         footer = f"estimated pKa — verify decisions that matter by measurement. {notes}"
     except Exception as exc:  # drawing never stops a run: the card carries the reason
-        body = (f'<text x="10" y="70" font-family="sans-serif" font-size="13" fill="{INK}">'
-                f"could not draw: {_esc(' '.join(str(exc).split())[:200])}</text>")
-        height, footer = 110, "no picture for this molecule"
+        return message_card_svg(title, f"could not draw: {exc}")
+    return _frame(title, body, height, footer)
+
+
+def message_card_svg(title: str, message: str) -> str:
+    """A card with text only: for molecules that failed annotation or drawing."""
+    body = (f'<text x="10" y="70" font-family="sans-serif" font-size="13" fill="{INK}">'
+            f"{_esc(' '.join(message.split())[:150])}</text>")
+    return _frame(title, body, 110, "no picture for this molecule")
+
+
+def _frame(title: str, body: str, height: int, footer: str) -> str:
     return (f'<svg xmlns="http://www.w3.org/2000/svg" width="{WIDTH}" height="{height}" '
             f'viewBox="0 0 {WIDTH} {height}">'
             f'<rect width="100%" height="100%" fill="{PAPER}" stroke="{GREY}"/>'
