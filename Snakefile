@@ -18,6 +18,7 @@ include: "workflow/rules/annotate.smk"
 include: "workflow/rules/gather.smk"
 include: "workflow/rules/qc.smk"
 include: "workflow/rules/export.smk"
+include: "workflow/rules/draw.smk"
 
 
 rule all:

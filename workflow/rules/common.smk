@@ -131,6 +131,8 @@ def final_outputs():
         *rules.gather_annotations.output,
         *rules.summarize_qc.output,
         *rules.plot_qc.output,
+        *rules.draw_gallery.output,
+        *rules.plot_charge_profile.output,
         *DOCKING_FILES,
         *(rules.filter_library.output if FILTERS else []),
     ]
