@@ -9,8 +9,6 @@ rule draw_gallery:
             category="{library}",
             subcategory="Gallery",
         ),
-    params:
-        settings=SETTINGS,
     log:
         f"{OUTDIR}/logs/{{library}}/draw_gallery.log",
     benchmark:
@@ -21,6 +19,8 @@ rule draw_gallery:
     resources:
         mem_mb=1000,
         runtime=30,
+    params:
+        settings=SETTINGS,
     script:
         "../scripts/draw_gallery.py"
 
@@ -35,8 +35,6 @@ rule plot_charge_profile:
             category="{library}",
             subcategory="Plots",
         ),
-    params:
-        settings=SETTINGS,
     log:
         f"{OUTDIR}/logs/{{library}}/plot_charge_profile.log",
     benchmark:
@@ -47,5 +45,7 @@ rule plot_charge_profile:
     resources:
         mem_mb=1000,
         runtime=30,
+    params:
+        settings=SETTINGS,
     script:
         "../scripts/plot_charge_profile.py"
