@@ -20,5 +20,6 @@ rule annotate_chunk:
         docking=asdict(DOCKING),
         build_docking=BUILD_DOCKING,
         version=IONOTATE_VERSION,
+        rule_tables=RULE_TABLES,
     script:
         "../scripts/annotate_chunk.py"

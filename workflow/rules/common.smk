@@ -10,6 +10,7 @@ from annotate.pipeline import expand_library_shorthand, library_specs, read_mani
 from annotate.pipeline.docking import DockingOptions, ph_label
 from annotate.pipeline.filtering import filter_specs, ph_values_with_filters
 from annotate.pipeline.preflight import check_run
+from annotate.tables import rule_table_checksums
 
 # Snakemake merges --configfile and --config into config/config.yaml key by key,
 # which would add the demo libraries to the user's own. Libraries given on the
@@ -48,6 +49,9 @@ check_run(
 )
 # A new Ionotate version may change results, so it reruns the annotation like a new setting.
 IONOTATE_VERSION = annotate.__version__
+# SHA-256 of every rule table in use: a param of the annotation jobs, so an edited
+# packaged or user table reruns them (a changed param is a rerun trigger)
+RULE_TABLES = rule_table_checksums(Path(config["user_rules"]) if config["user_rules"] else None)
 ENV = "../envs/ionotate.yaml"
 
 
