@@ -13,8 +13,8 @@ rule annotate_chunk:
         ENV
     threads: 1
     resources:
-        mem_mb=CHUNK_MEM_MB,
-        runtime=lambda wildcards, attempt: CHUNK_RUNTIME_MIN * attempt,
+        mem_mb=CHUNK_RESOURCES.mem_mb,
+        runtime=lambda wildcards, attempt: CHUNK_RESOURCES.runtime(attempt),
     params:
         settings=SETTINGS,
         docking=asdict(DOCKING),
