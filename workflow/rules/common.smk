@@ -11,6 +11,9 @@ from annotate.pipeline.docking import DockingOptions, ph_label
 from annotate.pipeline.filtering import filter_specs, ph_values_with_filters
 from annotate.pipeline.preflight import check_run
 from annotate.pipeline.resources import chunk_resources
+from annotate.qc.report import JSON_OUTPUTS as QC_JSON_OUTPUTS
+from annotate.qc.report import OUTPUTS as QC_OUTPUTS
+from annotate.settings import SETTING_NAMES
 from annotate.tables import rule_table_checksums
 
 # Snakemake merges --configfile and --config into config/config.yaml key by key,
@@ -29,17 +32,7 @@ config["ph"] = ph_values_with_filters(config["ph"], FILTERS)
 LIBRARIES = library_specs(config["libraries"])
 OUTDIR = config["outdir"].rstrip("/")
 CHUNK_SIZE = config["chunk_size"]
-SETTINGS = {
-    key: config[key]
-    for key in (
-        "ph",
-        "min_fraction",
-        "max_species",
-        "keep_largest_fragment",
-        "neutralize",
-        "user_rules",
-    )
-}
+SETTINGS = {key: config[key] for key in SETTING_NAMES}
 USER_RULES = [config["user_rules"]] if config["user_rules"] else []
 # Refuse a run that cannot work (NaN setting, missing or unreadable input, unknown
 # column, bad rule file) now, naming every problem, not in a job's log hours later.
