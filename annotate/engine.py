@@ -7,6 +7,7 @@ microstates and species (annotate.species).
 
 from __future__ import annotations
 
+import logging
 from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass, field, replace
 from functools import partial
@@ -131,6 +132,8 @@ def annotate_batch(
     return out  # type: ignore[return-value]  (every position is filled)
 
 
+_LOG = logging.getLogger(__name__)
+
 #: records annotated together by annotate_many and the workflow; enough to keep each
 #: step's code hot, few enough that a batch's molecules are a small part of a job's memory
 BATCH = 256
@@ -162,6 +165,8 @@ def _each(step: Callable[[_Record], None], records: list[_Record], out: list[Ann
         except RecordError as exc:
             out[record.position] = _error(record.id, str(exc))
         except Exception as exc:  # a record must never stop a library
+            # the row keeps one line; the traceback goes to the job log so a user can send us the cause
+            _LOG.exception("internal error on record %r at %s", record.id, getattr(step, "func", step).__name__)
             out[record.position] = _error(record.id, f"internal error: {type(exc).__name__}: {exc}")
         else:
             kept.append(record)

@@ -8,6 +8,7 @@ time with its file and line quoted, never later in the middle of a library.
 
 from __future__ import annotations
 
+import hashlib
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from importlib import resources
@@ -58,6 +59,25 @@ class Row:
 def packaged(name: str) -> Path:
     """Path of a table shipped inside the package (``annotate/data``)."""
     return Path(str(resources.files("annotate") / "data" / name))
+
+
+def rule_table_checksums(user_rules: Path | None = None) -> dict[str, str]:
+    """SHA-256 of every rule table a run reads, so a result names the exact tables that made it.
+
+    Keys are ``data/<name>.tsv`` for each packaged table and ``user_rules/<file name>``
+    for a user rule file. The workflow passes this to the annotation jobs as a param,
+    so an edited table (packaged or user) reruns them; the jobs write it into the run
+    metadata of every annotated file.
+    """
+    data = Path(str(resources.files("annotate") / "data"))
+    sums = {f"data/{path.name}": _sha256(path) for path in sorted(data.glob("*.tsv"))}
+    if user_rules is not None:
+        sums[f"user_rules/{Path(user_rules).name}"] = _sha256(Path(user_rules))
+    return sums
+
+
+def _sha256(path: Path) -> str:
+    return hashlib.sha256(path.read_bytes()).hexdigest()
 
 
 def read_rows(path: Path, *, required: tuple[str, ...]) -> Iterator[Row]:

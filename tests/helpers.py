@@ -6,9 +6,12 @@ import importlib.util
 import subprocess
 import sys
 from pathlib import Path
+from collections.abc import Iterable
 from types import ModuleType
 
 from rdkit import Chem
+
+from annotate.export.filters import FilterSpec
 
 ROOT = Path(__file__).resolve().parent.parent
 DATA = Path(__file__).resolve().parent / "data"
@@ -51,3 +54,8 @@ def run_snakemake(root: Path, *args: str, ok: bool = True) -> subprocess.Complet
     )
     assert (run.returncode == 0) == ok, run.stdout[-6000:]
     return run
+
+
+def filter_outputs(directory: Path, specs: Iterable[FilterSpec], ext: str = "parquet") -> list[Path]:
+    """One output path per filter, named as the workflow's filter_library rule names them."""
+    return [directory / f"{spec.name}.{ext}" for spec in specs]

@@ -17,7 +17,7 @@ from snakemake.utils import validate
 from annotate.io.library import LibrarySpec
 from annotate.pipeline import expand_library_shorthand, library_specs, settings_from_config
 from annotate.pipeline.config import suggested_chunk_size
-from annotate.settings import Settings
+from annotate.settings import SETTING_NAMES, Settings
 
 ROOT = Path(__file__).resolve().parents[1]
 SCHEMA_PATH = ROOT / "workflow" / "schemas" / "config.schema.yaml"
@@ -111,6 +111,15 @@ def test_settings_defaults_match_the_schema() -> None:
     config = validated(MINIMAL)
     assert settings_from_config({**config, "ph": [7.4]}) == Settings()
     assert settings_from_config(config).ph == (7.4, 5.0)
+
+
+def test_every_setting_is_a_schema_key_and_the_workflow_params_are_enough() -> None:
+    """The jobs get only the SETTING_NAMES keys (common.smk): they must make the whole Settings."""
+    assert set(SETTING_NAMES) <= set(SCHEMA["properties"])
+    assert set(SETTING_NAMES) <= set(DEFAULT_CONFIG)
+    config = validated({**MINIMAL, "min_fraction": 0.2, "max_species": 2, "neutralize": False})
+    params = {key: config[key] for key in SETTING_NAMES}
+    assert settings_from_config(params) == Settings(ph=(7.4, 5.0), min_fraction=0.2, max_species=2, neutralize=False)
 
 
 def test_library_defaults_match_the_schema() -> None:

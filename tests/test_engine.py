@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import dataclasses
+import logging
 
 import pytest
 from rdkit import Chem
@@ -128,3 +129,19 @@ def test_a_step_failing_on_one_record_costs_only_that_record(monkeypatch: pytest
     assert [r.status for r in results] == ["ok", "error", "ok"]
     assert results[1].messages == ("internal error: RuntimeError: boom",)
     assert [r.id for r in results] == ["0", "1", "2"]
+
+
+def test_an_internal_error_logs_its_traceback_and_the_row_keeps_one_line(
+    monkeypatch: pytest.MonkeyPatch, caplog: pytest.LogCaptureFixture
+) -> None:
+    def broken(mol, matcher):  # noqa: ANN001, ANN202
+        raise RuntimeError("boom")
+
+    monkeypatch.setattr(engine, "find_sites", broken)
+    with caplog.at_level(logging.ERROR, logger="annotate.engine"):
+        results = list(engine.annotate_many(["NCC(=O)O"]))
+    assert results[0].messages == ("internal error: RuntimeError: boom",)
+    [logged] = [r for r in caplog.records if r.name == "annotate.engine"]
+    assert "'0'" in logged.getMessage()
+    assert logged.exc_info is not None
+    assert "Traceback" in caplog.text and 'raise RuntimeError("boom")' in caplog.text

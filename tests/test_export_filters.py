@@ -18,6 +18,7 @@ from annotate import Settings, annotate_smiles
 from annotate.export.filters import FilterSpec, apply_filters, filter_expression, ionization_class
 from annotate.io.schema import annotation_table, read_run_metadata, run_metadata
 from annotate.io.tables import parquet_batches
+from tests.helpers import filter_outputs as outputs
 
 LIBRARY = {
     "acetic_acid": "CC(=O)O",  # pKa 4.76 (from memory)
@@ -90,7 +91,7 @@ def annotated(tmp_path_factory: pytest.TempPathFactory) -> Path:
 
 
 def test_filters_match_hand_expectations(annotated: Path, tmp_path: Path) -> None:
-    counts = apply_filters(annotated, list(EXPECTED), tmp_path)
+    counts = apply_filters(annotated, list(EXPECTED), outputs(tmp_path, EXPECTED))
     for spec, expected in EXPECTED.items():
         kept = pl.read_parquet(tmp_path / f"{spec.name}.parquet")
         assert set(kept["id"]) == expected, spec.name
@@ -99,7 +100,7 @@ def test_filters_match_hand_expectations(annotated: Path, tmp_path: Path) -> Non
 
 def test_filtered_files_keep_columns_order_and_run_metadata(annotated: Path, tmp_path: Path) -> None:
     spec = FilterSpec("net_zero", ph=7.4, charge_min=0, charge_max=0)
-    apply_filters(annotated, [spec], tmp_path)
+    apply_filters(annotated, [spec], outputs(tmp_path, [spec]))
     out = tmp_path / "net_zero.parquet"
     assert pq.read_schema(out).remove_metadata().equals(pq.read_schema(annotated).remove_metadata())
     kept = pl.read_parquet(out)
@@ -110,7 +111,7 @@ def test_filtered_files_keep_columns_order_and_run_metadata(annotated: Path, tmp
 
 
 def test_filter_keeping_nothing_writes_an_empty_file(annotated: Path, tmp_path: Path) -> None:
-    counts = apply_filters(annotated, [FilterSpec("dications", ph=7.4, charge_min=2)], tmp_path)
+    counts = apply_filters(annotated, [d := FilterSpec("dications", ph=7.4, charge_min=2)], outputs(tmp_path, [d]))
     assert counts == {"dications": 0}
     out = pq.read_table(tmp_path / "dications.parquet")
     assert out.num_rows == 0 and out.schema.names == pq.read_schema(annotated).names
@@ -124,7 +125,7 @@ def test_expression_works_on_a_lazy_scan(annotated: Path) -> None:
 
 def test_uncomputed_ph_is_an_error(annotated: Path, tmp_path: Path) -> None:
     with pytest.raises(ValueError, match="not computed"):
-        apply_filters(annotated, [FilterSpec("x", ph=5.0)], tmp_path)
+        apply_filters(annotated, [x := FilterSpec("x", ph=5.0)], outputs(tmp_path, [x]))
     assert not any(tmp_path.iterdir())
 
 
@@ -158,9 +159,9 @@ def test_filters_read_in_small_batches_write_the_same_rows(
     annotated: Path, tmp_path: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
     specs = list(EXPECTED)
-    whole = apply_filters(annotated, specs, tmp_path / "whole")
+    whole = apply_filters(annotated, specs, outputs(tmp_path / "whole", specs))
     monkeypatch.setattr("annotate.export.filters.parquet_batches", partial(parquet_batches, batch_rows=2))
-    assert apply_filters(annotated, specs, tmp_path / "batched") == whole
+    assert apply_filters(annotated, specs, outputs(tmp_path / "batched", specs)) == whole
     for spec in specs:
         one, batched = (pq.read_table(tmp_path / d / f"{spec.name}.parquet") for d in ("whole", "batched"))
         assert batched.equals(one, check_metadata=True), spec.name
@@ -172,5 +173,6 @@ def test_uncomputed_ph_seen_only_after_writing_still_leaves_no_file(
     monkeypatch.setattr("annotate.export.filters.parquet_batches", partial(parquet_batches, batch_rows=2))
     specs = [FilterSpec("fine", ph=7.4), FilterSpec("x", ph=5.0)]
     with pytest.raises(ValueError, match="pH 5.0 was not computed"):
-        apply_filters(annotated, specs, tmp_path)
+        apply_filters(annotated, specs, outputs(tmp_path, specs))
     assert not any(tmp_path.iterdir())
+

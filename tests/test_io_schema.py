@@ -21,6 +21,7 @@ from annotate.io.schema import (
 )
 from annotate.results import MoleculeResult, PhState, Site, Species, Term
 from annotate.settings import Settings
+from annotate.tables import rule_table_checksums
 
 SITE = Site(
     atom=3,
@@ -116,7 +117,9 @@ def test_declared_types_as_polars_sees_them() -> None:
     )
 
 
-def test_run_metadata_round_trips_through_a_schema(tmp_path: Path) -> None:
+def test_run_metadata_round_trips_through_a_schema(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch.chdir(tmp_path)
+    Path("rules.tsv").write_text("name\n")
     settings = Settings(ph=(7.4, 2.0), user_rules=Path("rules.tsv"))
     meta = run_metadata(library="lib", source={"path": "x.sdf"}, settings=settings, version="9.9")
     back = read_run_metadata(output_schema([], metadata=meta))
@@ -124,6 +127,16 @@ def test_run_metadata_round_trips_through_a_schema(tmp_path: Path) -> None:
     assert json.loads(back["settings"])["ph"] == [7.4, 2.0]
     assert json.loads(back["settings"])["user_rules"] == "rules.tsv"
     assert (back["library"], back["version"]) == ("lib", "9.9")
+    assert json.loads(back["rule_tables"]) == rule_table_checksums(Path("rules.tsv"))
+
+
+def test_run_metadata_names_the_checksum_of_a_user_rule_file(tmp_path: Path) -> None:
+    rules = tmp_path / "mine.tsv"
+    rules.write_text("name\n")
+    meta = run_metadata(library="lib", source={}, settings=Settings(user_rules=rules), version="9.9")
+    sums = json.loads(read_run_metadata(output_schema([], metadata=meta))["rule_tables"])
+    assert sums == rule_table_checksums(rules) and "user_rules/mine.tsv" in sums
+    assert "data/groups.tsv" in sums
 
 
 def test_output_schema_appends_carried_columns_after_the_contract() -> None:

@@ -25,6 +25,7 @@ from annotate.pipeline.filtering import SortedPositions, filter_library, filter_
 from annotate.qc.filters import FILTER_COUNTS_SCHEMA, read_filter_counts
 from annotate.qc.report import OUTPUTS, write_qc
 from annotate.settings import Settings
+from tests.helpers import filter_outputs
 
 ROOT = Path(__file__).resolve().parents[1]
 SCHEMA = yaml.safe_load((ROOT / "workflow" / "schemas" / "config.schema.yaml").read_text())
@@ -77,7 +78,12 @@ def library(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Path]:
 def test_kept_molecules_match_hand_expectations(library: dict[str, Path], tmp_path: Path) -> None:
     specs = filter_specs(FILTERS)
     kept = filter_library(
-        library["annotated"], [library["docking"]], specs=specs, outdir=tmp_path, qc_table=tmp_path / "filters.tsv"
+        library["annotated"],
+        [library["docking"]],
+        specs=specs,
+        parquet=filter_outputs(tmp_path, specs),
+        sdf=filter_outputs(tmp_path, specs, "sdf"),
+        qc_table=tmp_path / "filters.tsv"
     )
     assert kept == {name: len(ids) for name, ids in EXPECTED.items()}
     for name, ids in EXPECTED.items():
@@ -107,7 +113,12 @@ def test_kept_molecules_match_hand_expectations(library: dict[str, Path], tmp_pa
 def test_summary_json_carries_the_filter_counts(library: dict[str, Path], tmp_path: Path) -> None:
     specs = filter_specs(FILTERS[:1])
     filter_library(
-        library["annotated"], [library["docking"]], specs=specs, outdir=tmp_path, qc_table=tmp_path / "f.tsv"
+        library["annotated"],
+        [library["docking"]],
+        specs=specs,
+        parquet=filter_outputs(tmp_path, specs),
+        sdf=filter_outputs(tmp_path, specs, "sdf"),
+        qc_table=tmp_path / "f.tsv"
     )
     outputs = {name: tmp_path / f"{name}.out" for name in OUTPUTS}
     write_qc(library["annotated"], outputs=outputs, filters=tmp_path / "f.tsv")
@@ -120,7 +131,7 @@ def test_summary_json_carries_the_filter_counts(library: dict[str, Path], tmp_pa
 def test_no_filters_still_writes_an_empty_qc_table(library: dict[str, Path], tmp_path: Path) -> None:
     assert (
         filter_library(
-            library["annotated"], [library["docking"]], specs=[], outdir=tmp_path, qc_table=tmp_path / "f.tsv"
+            library["annotated"], [library["docking"]], specs=[], parquet=[], sdf=[], qc_table=tmp_path / "f.tsv"
         )
         == {}
     )
@@ -157,9 +168,23 @@ def test_structures_read_in_small_batches_are_the_same(
 ) -> None:
     specs = filter_specs(FILTERS)
     args = {"specs": specs, "qc_table": tmp_path / "f.tsv"}
-    filter_library(library["annotated"], [library["docking"]], outdir=tmp_path / "whole", **args)
+    out = tmp_path / "whole"
+    filter_library(
+        library["annotated"],
+        [library["docking"]],
+        parquet=filter_outputs(out, specs),
+        sdf=filter_outputs(out, specs, "sdf"),
+        **args,
+    )
     monkeypatch.setattr("annotate.pipeline.filtering._DOCKING_BATCH_ROWS", 1)
-    filter_library(library["annotated"], [library["docking"]], outdir=tmp_path / "batched", **args)
+    out = tmp_path / "batched"
+    filter_library(
+        library["annotated"],
+        [library["docking"]],
+        parquet=filter_outputs(out, specs),
+        sdf=filter_outputs(out, specs, "sdf"),
+        **args,
+    )
     for spec in specs:
         name = f"{spec.name}.sdf"
         assert (tmp_path / "batched" / name).read_text() == (tmp_path / "whole" / name).read_text(), name

@@ -284,3 +284,11 @@ def test_pka_histograms_weigh_each_value_by_its_count(tmp_path: Path) -> None:
     for ax in (a for a in fig.axes if a.get_visible()):
         n = int(ax.get_title().rsplit("n=", 1)[1].rstrip(")"))
         assert sum(p.get_height() for p in ax.patches) == n
+
+
+def test_every_qc_output_has_its_report_caption() -> None:
+    """workflow/rules/qc.smk derives its outputs from OUTPUTS; each needs workflow/report/<name>.rst."""
+    from annotate.qc.report import OUTPUTS
+
+    captions = Path(__file__).resolve().parents[1] / "workflow" / "report"
+    assert [name for name in OUTPUTS if not (captions / f"{name}.rst").is_file()] == []

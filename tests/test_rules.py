@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import hashlib
 from pathlib import Path
 
 import pytest
@@ -9,7 +10,7 @@ import pytest
 from annotate import Settings, annotate_smiles
 from annotate.ruleset import load_ruleset
 from annotate.sites.rules import load_group_rules
-from annotate.tables import RuleFileError, packaged
+from annotate.tables import RuleFileError, packaged, rule_table_checksums
 
 HEADER = "name\tcategory\tkind\tsmarts\tpka\tparent\tmodel\trho\tsigma\tortho_k\tortho_c\toverlap\tsd\tsource\n"
 
@@ -84,3 +85,18 @@ def test_missing_column_is_rejected(tmp_path: Path) -> None:
 
 def test_group_table_is_inside_the_package() -> None:
     assert packaged("groups.tsv").is_file()
+
+
+def test_rule_table_checksums_name_every_packaged_table_and_a_user_file(tmp_path: Path) -> None:
+    user = tmp_path / "mine.tsv"
+    user.write_text(HEADER)
+    sums = rule_table_checksums(user)
+    for name in ("groups.tsv", "substituents.tsv", "interactions.tsv", "contexts.tsv"):
+        assert sums[f"data/{name}"] == hashlib.sha256(packaged(name).read_bytes()).hexdigest()
+    assert sums["user_rules/mine.tsv"] == hashlib.sha256(HEADER.encode()).hexdigest()
+    # SHA-256 of the empty message, FIPS 180-2 appendix / NIST example values
+    user.write_text("")
+    assert rule_table_checksums(user)["user_rules/mine.tsv"] == (
+        "e3b0c44298fc1c149afbf4c8996fb92427ae41e4649b934ca495991b7852b855"
+    )
+    assert not any(key.startswith("user_rules/") for key in rule_table_checksums(None))

@@ -19,6 +19,7 @@ This module also holds the helpers that the other workflow test modules share
 from __future__ import annotations
 
 import gzip
+import hashlib
 import json
 import math
 import os
@@ -35,7 +36,7 @@ from rdkit import Chem
 
 from annotate.io.library import LibrarySpec
 from annotate.io.records import NO_MOLBLOCK_END
-from annotate.io.schema import ANNOTATION_SCHEMA
+from annotate.io.schema import ANNOTATION_SCHEMA, read_run_metadata
 from annotate.pipeline import annotate_chunk, split_library
 from annotate.pipeline.preflight import RunCheckError, check_run, library_problem
 from annotate.settings import Settings
@@ -473,3 +474,30 @@ def test_a_bad_rule_file_fails_the_chunk_job_instead_of_every_record(tmp_path: P
             tmp_path / "chunks" / "000000.parquet", out, settings=Settings(user_rules=tmp_path / "rules.tsv")
         )
     assert not out.exists()
+
+
+@pytest.mark.slow
+def test_an_edited_user_rule_file_reruns_the_annotation_and_names_its_checksum(tmp_path: Path) -> None:
+    """The file's checksum is a param of the annotation jobs: an edit reruns them even with the old mtime."""
+    header = "name\tcategory\tkind\tsmarts\tpka\tparent\tmodel\trho\tsigma\tortho_k\tortho_c\toverlap\tsd\tsource\n"
+    row = "phenol\tphenol\tacid\t[OX2H1:1][c:2]\t{pka}\tOc1ccccc1\thammett\t2.23\tp-\t0.85\t0\tseparate\t0.3\tdemo\n"
+    rules = tmp_path / "rules.tsv"
+    rules.write_text(header + row.format(pka="9.00"))
+    (tmp_path / "lib.smi").write_text("Oc1ccccc1 phenol\nCCO ethanol\n")
+    root = workdir(tmp_path, libraries={"lib": "lib.smi"}, user_rules="rules.tsv")
+    snakemake(root, "--cores", "1")
+    annotated = root / "out" / "lib" / "annotated.parquet"
+    sums = json.loads(read_run_metadata(pq.read_schema(annotated))["rule_tables"])
+    assert sums["user_rules/rules.tsv"] == hashlib.sha256(rules.read_bytes()).hexdigest()
+    assert {"data/groups.tsv", "data/substituents.tsv", "data/interactions.tsv", "data/contexts.tsv"} <= set(sums)
+    qc = json.loads((root / "out" / "lib" / "qc" / "settings_and_versions.json").read_text())
+    assert qc["rule_tables_sha256"] == sums
+
+    assert "annotate_chunk" not in snakemake(root, "--cores", "1", "--dry-run").stdout
+    stat = rules.stat()
+    rules.write_text(header + row.format(pka="9.50"))
+    os.utime(rules, ns=(stat.st_atime_ns, stat.st_mtime_ns))  # the same mtime: only the content tells
+    assert "annotate_chunk" in snakemake(root, "--cores", "1", "--dry-run").stdout
+    snakemake(root, "--cores", "1")
+    sites = pq.read_table(annotated).to_pylist()[0]["sites"]
+    assert sites[0]["pka"] == pytest.approx(9.5)

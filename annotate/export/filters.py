@@ -149,9 +149,11 @@ def filter_expression(spec: FilterSpec) -> pl.Expr:
 
 
 def apply_filters(
-    annotated_parquet: str | os.PathLike[str], specs: Sequence[FilterSpec], outdir: str | os.PathLike[str]
+    annotated_parquet: str | os.PathLike[str],
+    specs: Sequence[FilterSpec],
+    outputs: Sequence[str | os.PathLike[str]],
 ) -> dict[str, int]:
-    """Write ``{outdir}/{name}.parquet`` per filter (all columns, input order); returns kept counts.
+    """Write each filter's kept rows to its path in ``outputs`` (all columns, input order); returns kept counts.
 
     One pass over the file, a batch at a time, every filter at once: memory is one
     batch whatever the library's size, and the kept rows keep the source's exact
@@ -161,12 +163,14 @@ def apply_filters(
     names = [s.name for s in specs]
     if len(set(names)) != len(names):
         raise ValueError(f"filter names must be unique: {names}")
+    if len(outputs) != len(specs):
+        raise ValueError(f"{len(specs)} filters but {len(outputs)} output paths")
     source = Path(annotated_parquet)
     schema = pq.read_schema(source)
     counts = dict.fromkeys(names, 0)
     present: set[float] = set()
     with ExitStack() as stack:
-        writers = [_writer(stack, Path(outdir) / f"{spec.name}.parquet", schema, spec) for spec in specs]
+        writers = [_writer(stack, Path(out), schema, spec) for spec, out in zip(specs, outputs, strict=True)]
         for batch in parquet_batches(source):
             frame = pl.from_arrow(batch)
             present.update(_computed_phs(frame))

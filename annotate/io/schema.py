@@ -36,7 +36,8 @@ column             type                   meaning
 =================  =====================  =============================================
 
 The file's key-value metadata (``ionotate.*``) records the library, its source,
-the run settings and the Ionotate version, and a notice that pKa values are
+the run settings, the Ionotate version, the SHA-256 of every rule table the run
+read (``ionotate.rule_tables``: packaged ``data/*.tsv`` and a user rule file), and a notice that pKa values are
 estimates: verify decisions that matter (formulation, safety, dosing) with
 measurements and qualified review.
 
@@ -56,6 +57,7 @@ import pyarrow as pa
 
 from annotate.results import MoleculeResult, PhState, Site
 from annotate.settings import Settings
+from annotate.tables import rule_table_checksums
 
 SITE = pa.struct(
     [
@@ -151,6 +153,7 @@ def run_metadata(
         META_PREFIX + "library": library,
         META_PREFIX + "source": json.dumps(dict(source), sort_keys=True),
         META_PREFIX + "settings": json.dumps(settings_dict, sort_keys=True),
+        META_PREFIX + "rule_tables": json.dumps(rule_table_checksums(settings.user_rules), sort_keys=True),
     }
 
 

@@ -69,13 +69,17 @@ def filter_library(
     docking_chunks: Sequence[str | os.PathLike[str]],
     *,
     specs: Sequence[FilterSpec],
-    outdir: str | os.PathLike[str],
+    parquet: Sequence[str | os.PathLike[str]],
+    sdf: Sequence[str | os.PathLike[str]],
     qc_table: str | os.PathLike[str],
 ) -> dict[str, int]:
-    """Write ``{outdir}/{name}.parquet`` and ``.sdf`` per filter and the QC table; returns kept counts."""
-    outdir = Path(outdir)
-    kept = apply_filters(annotated, specs, outdir)
-    targets = [(outdir / f"{spec.name}.sdf", spec.ph, outdir / f"{spec.name}.parquet") for spec in specs]
+    """Write each filter's rows to its ``parquet`` path and SD records to its ``sdf`` path, and the QC table.
+
+    The paths come from the rule (one per spec, in spec order), so the job writes
+    exactly the outputs Snakemake expects. Returns kept counts per filter.
+    """
+    kept = apply_filters(annotated, specs, parquet)
+    targets = [(Path(s), spec.ph, Path(p)) for spec, p, s in zip(specs, parquet, sdf, strict=True)]
     structures = dict(zip([s.name for s in specs], write_filtered_structures(docking_chunks, targets), strict=True))
     annotated_rows = sum(
         int((pl.from_arrow(batch)["status"] != "error").sum())

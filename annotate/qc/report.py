@@ -82,6 +82,7 @@ def settings_and_versions(run: Mapping[str, str]) -> dict[str, object]:
         "library": run.get("library"),
         "source": json.loads(run["source"]) if "source" in run else None,
         "settings": json.loads(run["settings"]) if "settings" in run else None,
+        "rule_tables_sha256": json.loads(run["rule_tables"]) if "rule_tables" in run else None,
         "annotated_with": run.get("version"),
         "versions": {"ionotate": annotate.__version__, "python": platform.python_version()}
         | {name: _version(name) for name in _PACKAGES},

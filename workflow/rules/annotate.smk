@@ -13,12 +13,13 @@ rule annotate_chunk:
         ENV
     threads: 1
     resources:
-        mem_mb=CHUNK_MEM_MB,
-        runtime=lambda wildcards, attempt: CHUNK_RUNTIME_MIN * attempt,
+        mem_mb=CHUNK_RESOURCES.mem_mb,
+        runtime=lambda wildcards, attempt: CHUNK_RESOURCES.runtime(attempt),
     params:
         settings=SETTINGS,
         docking=asdict(DOCKING),
         build_docking=BUILD_DOCKING,
         version=IONOTATE_VERSION,
+        rule_tables=RULE_TABLES,
     script:
         "../scripts/annotate_chunk.py"

@@ -10,6 +10,11 @@ from annotate.pipeline import expand_library_shorthand, library_specs, read_mani
 from annotate.pipeline.docking import DockingOptions, ph_label
 from annotate.pipeline.filtering import filter_specs, ph_values_with_filters
 from annotate.pipeline.preflight import check_run
+from annotate.pipeline.resources import chunk_resources
+from annotate.qc.report import JSON_OUTPUTS as QC_JSON_OUTPUTS
+from annotate.qc.report import OUTPUTS as QC_OUTPUTS
+from annotate.settings import SETTING_NAMES
+from annotate.tables import rule_table_checksums
 
 # Snakemake merges --configfile and --config into config/config.yaml key by key,
 # which would add the demo libraries to the user's own. Libraries given on the
@@ -27,17 +32,7 @@ config["ph"] = ph_values_with_filters(config["ph"], FILTERS)
 LIBRARIES = library_specs(config["libraries"])
 OUTDIR = config["outdir"].rstrip("/")
 CHUNK_SIZE = config["chunk_size"]
-SETTINGS = {
-    key: config[key]
-    for key in (
-        "ph",
-        "min_fraction",
-        "max_species",
-        "keep_largest_fragment",
-        "neutralize",
-        "user_rules",
-    )
-}
+SETTINGS = {key: config[key] for key in SETTING_NAMES}
 USER_RULES = [config["user_rules"]] if config["user_rules"] else []
 # Refuse a run that cannot work (NaN setting, missing or unreadable input, unknown
 # column, bad rule file) now, naming every problem, not in a job's log hours later.
@@ -48,6 +43,9 @@ check_run(
 )
 # A new Ionotate version may change results, so it reruns the annotation like a new setting.
 IONOTATE_VERSION = annotate.__version__
+# SHA-256 of every rule table in use: a param of the annotation jobs, so an edited
+# packaged or user table reruns them (a changed param is a rerun trigger)
+RULE_TABLES = rule_table_checksums(Path(config["user_rules"]) if config["user_rules"] else None)
 ENV = "../envs/ionotate.yaml"
 
 
@@ -69,19 +67,11 @@ FILTER_COUNTS = [f"{OUTDIR}/{{library}}/qc/filters.tsv"] if FILTERS else []
 # Docking records are built in annotate_chunk's pass; with no docking file and no
 # filter to use them, the job writes an empty docking table and skips the work.
 BUILD_DOCKING = bool(DOCKING_FORMATS or FILTERS)
-# Requests of one annotate_chunk job: 1 GB plus 0.01 MB per record (a job holds one
-# row group of 8,192 records at a time: about 230 MB at 10,000 records and 265 MB at
-# 50,000 were measured), and 0.03 s per record for the annotation (about 30 times
-# the ~1 ms measured, README "Sizing chunks"), plus per record and pH
-# 0.05 s for docking records (0.5 s when embedding in 3D), on top of start-up. The
-# runtime grows with each retry (annotate.smk), so a chunk of unusually slow molecules
-# killed at its wall time gets more the next time; override with `set-resources`.
-DOCKING_SECONDS = 0.5 if DOCKING.embed_3d else 0.05
-CHUNK_SECONDS = CHUNK_SIZE * (
-    0.03 + BUILD_DOCKING * len(config["ph"]) * DOCKING_SECONDS
+# Requests of one annotate_chunk job (formulas and measurements: annotate.pipeline.resources);
+# override with `set-resources`.
+CHUNK_RESOURCES = chunk_resources(
+    CHUNK_SIZE, n_ph=len(config["ph"]), build_docking=BUILD_DOCKING, embed_3d=DOCKING.embed_3d
 )
-CHUNK_MEM_MB = 1000 + CHUNK_SIZE // 100
-CHUNK_RUNTIME_MIN = 10 + int(CHUNK_SECONDS / 60)
 
 
 wildcard_constraints:

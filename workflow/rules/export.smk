@@ -44,6 +44,5 @@ rule filter_library:
         runtime=60,
     params:
         filters=config["filters"],
-        outdir=f"{OUTDIR}/{{library}}/filters",
     script:
         "../scripts/filter_library.py"

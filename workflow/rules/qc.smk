@@ -3,54 +3,16 @@ rule summarize_qc:
         annotated=f"{OUTDIR}/{{library}}/annotated.parquet",
         filters=FILTER_COUNTS,
     output:
-        counts=report(
-            f"{OUTDIR}/{{library}}/qc/counts.tsv",
-            caption="../report/counts.rst",
-            category="{library}",
-            subcategory="Tables",
-        ),
-        errors_by_reason=report(
-            f"{OUTDIR}/{{library}}/qc/errors_by_reason.tsv",
-            caption="../report/errors_by_reason.rst",
-            category="{library}",
-            subcategory="Tables",
-        ),
-        charge_by_ph=report(
-            f"{OUTDIR}/{{library}}/qc/charge_by_ph.tsv",
-            caption="../report/charge_by_ph_table.rst",
-            category="{library}",
-            subcategory="Tables",
-        ),
-        group_frequency=report(
-            f"{OUTDIR}/{{library}}/qc/group_frequency.tsv",
-            caption="../report/group_frequency.rst",
-            category="{library}",
-            subcategory="Tables",
-        ),
-        pka_by_group=report(
-            f"{OUTDIR}/{{library}}/qc/pka_by_group.tsv",
-            caption="../report/pka_by_group_table.rst",
-            category="{library}",
-            subcategory="Tables",
-        ),
-        sites_per_molecule=report(
-            f"{OUTDIR}/{{library}}/qc/sites_per_molecule.tsv",
-            caption="../report/sites_per_molecule.rst",
-            category="{library}",
-            subcategory="Tables",
-        ),
-        summary=report(
-            f"{OUTDIR}/{{library}}/qc/summary.json",
-            caption="../report/summary.rst",
-            category="{library}",
-            subcategory="Run",
-        ),
-        settings_and_versions=report(
-            f"{OUTDIR}/{{library}}/qc/settings_and_versions.json",
-            caption="../report/settings_and_versions.rst",
-            category="{library}",
-            subcategory="Run",
-        ),
+        # one output per entry of annotate.qc.report.OUTPUTS, captioned by workflow/report/<name>.rst
+        **{
+            name: report(
+                f"{OUTDIR}/{{library}}/qc/{name}.{'json' if name in QC_JSON_OUTPUTS else 'tsv'}",
+                caption=f"../report/{name}.rst",
+                category="{library}",
+                subcategory="Run" if name in QC_JSON_OUTPUTS else "Tables",
+            )
+            for name in QC_OUTPUTS
+        },
     log:
         f"{OUTDIR}/logs/{{library}}/summarize_qc.log",
     benchmark:

@@ -12,6 +12,7 @@ filter_library(
     snakemake.input.annotated,
     snakemake.input.docking,
     specs=filter_specs(snakemake.params.filters),
-    outdir=snakemake.params.outdir,
+    parquet=snakemake.output.parquet,
+    sdf=snakemake.output.sdf,
     qc_table=snakemake.output.counts,
 )
