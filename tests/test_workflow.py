@@ -224,6 +224,8 @@ def test_qc_outputs_exist_for_every_library(workdir: Path, first_run: str) -> No
         "charge_by_ph.png",
         "pka_by_group.png",
         "filters.tsv",
+        "charge_profile.png",
+        "gallery",
     ]
     for library in LIBRARIES:
         qc = workdir / "out" / library / "qc"

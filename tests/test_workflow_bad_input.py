@@ -256,6 +256,8 @@ def test_libraries_without_a_good_record_still_get_every_output(bad_records: Pat
 def finished_outputs(root: Path, library: str) -> set[str]:
     base = root / "out" / library
     found = {p.relative_to(base).as_posix() for p in base.rglob("*") if p.is_file()}
+    # the gallery holds one card per chosen molecule, so only its presence compares
+    found = {"qc/gallery/" if name.startswith("qc/gallery/") else name for name in found}
     return {name for name in found if not name.startswith("chunks/")}
 
 

@@ -43,9 +43,11 @@ check_run(
 )
 # A new Ionotate version may change results, so it reruns the annotation like a new setting.
 IONOTATE_VERSION = annotate.__version__
-# SHA-256 of every rule table in use: a param of the annotation jobs, so an edited
-# packaged or user table reruns them (a changed param is a rerun trigger)
-RULE_TABLES = rule_table_checksums(Path(config["user_rules"]) if config["user_rules"] else None)
+# SHA-256 of every packaged and user table of rules, a param of the annotation jobs, so an edited
+# table reruns them (a changed param is a rerun trigger)
+RULE_TABLES = rule_table_checksums(
+    Path(config["user_rules"]) if config["user_rules"] else None
+)
 ENV = "../envs/ionotate.yaml"
 
 
@@ -70,7 +72,10 @@ BUILD_DOCKING = bool(DOCKING_FORMATS or FILTERS)
 # Requests of one annotate_chunk job (formulas and measurements: annotate.pipeline.resources);
 # override with `set-resources`.
 CHUNK_RESOURCES = chunk_resources(
-    CHUNK_SIZE, n_ph=len(config["ph"]), build_docking=BUILD_DOCKING, embed_3d=DOCKING.embed_3d
+    CHUNK_SIZE,
+    n_ph=len(config["ph"]),
+    build_docking=BUILD_DOCKING,
+    embed_3d=DOCKING.embed_3d,
 )
 
 
