@@ -234,7 +234,7 @@ def _speciate(record: _Record, *, settings: Settings) -> None:
 def _estimated(mol: Chem.Mol, matches: list[SiteMatch], rules: RuleSet) -> tuple[Site, ...]:
     index = SubstituentIndex(mol, rules.substituents)
     return tuple(
-        estimate_site(mol, m, table=rules.substituents, index=index, parent_terms=rules.parent_terms[m.rule.name])
+        estimate_site(mol, m, rules=rules, index=index)
         for m in matches
     )
 

@@ -8,7 +8,9 @@ from pathlib import Path
 
 from rdkit import Chem
 
+from annotate.pka.bounds import Bound, load_bounds
 from annotate.pka.contributions import Contribution
+from annotate.pka.ring_systems import RingSystemTable, load_ring_systems
 from annotate.pka.substituents import SubstituentTable, load_substituents
 from annotate.sites.perceive import RuleMatcher
 from annotate.sites.rules import GroupRule, load_contexts, load_group_rules
@@ -24,6 +26,10 @@ class RuleSet:
     interactions: InteractionTable
     #: per rule name, the substituent contributions of its own parent compound
     parent_terms: dict[str, tuple[Contribution, ...]]
+    #: ring-system parents and position increments of ring-N bases
+    ring_systems: RingSystemTable
+    #: range of an estimate, by category
+    bounds: dict[str, Bound]
 
 
 @lru_cache(maxsize=8)
@@ -46,7 +52,15 @@ def load_ruleset(user_rules: Path | None = None) -> RuleSet:
         parent_terms[rule.name] = tuple(
             substituent_contributions(parent, rule, matches[0], substituents)
         )
-    return RuleSet(groups, RuleMatcher(groups, contexts), substituents, load_interactions(), parent_terms)
+    return RuleSet(
+        groups,
+        RuleMatcher(groups, contexts),
+        substituents,
+        load_interactions(),
+        parent_terms,
+        load_ring_systems(),
+        load_bounds(),
+    )
 
 
 def _in_context(mol: Chem.Mol, atom: int, rule: GroupRule, contexts: dict[str, Chem.Mol]) -> bool:

@@ -18,7 +18,7 @@ def _sites(smiles: str) -> list:
     mol = Chem.MolFromSmiles(smiles)
     index = SubstituentIndex(mol, RULES.substituents)
     return [
-        estimate_site(mol, m, table=RULES.substituents, index=index, parent_terms=RULES.parent_terms[m.rule.name])
+        estimate_site(mol, m, rules=RULES, index=index)
         for m in find_sites(mol, RULES.matcher)
     ]
 

@@ -22,7 +22,10 @@ RMSE_BOUND = {
     "carboxylic_aromatic": 0.5,
     "phenol": 0.5,
     "amine_aliphatic": 0.6,
-    "pyridine_azine": 1.2,  # adenine N1 (ring N of a purine) is mispredicted by 6 units; see DEVELOPERS.md
+    # its monosubstituted pyridines are also the compounds ring_increments.tsv is read
+    # from (a published table of measured increments), so this bound checks the lookup;
+    # the ring_n_* categories below are the independent check
+    "pyridine_azine": 0.5,
     "aniline": 0.5,
     "azole_base": 0.5,
     "alcohol": 0.7,
@@ -36,15 +39,25 @@ RMSE_BOUND = {
     "sulfonamide": 1.0,
     "hydroxamic_acid": 0.5,
     "drug": 0.9,
+    # reference_heteroaromatic_bases.csv: no compound of it set a constant of the tables
+    "ring_n_fused_multi_aza": 0.6,
+    "ring_n_exocyclic_amino": 0.9,
+    "ring_n_substituted_pyridines": 1.0,  # 2,6-di-tert-butylpyridine (steric) is 3 units off
+    "ring_n_drugs": 1.7,  # minoxidil (an N-oxide) and nevirapine are 4-6 units off
+    "ring_n_other": 0.5,
 }
+#: the reference sets read by these tests (tests/data, sources per row)
+REFERENCE_FILES = ("reference_pka.csv", "reference_heteroaromatic_bases.csv")
 OVERALL_RMSE = 0.7
 MIN_RECALL = 0.95
 
 
 @pytest.fixture(scope="module")
 def stats() -> dict[str, object]:
-    frame = accuracy.pl.read_csv(DATA / "reference_pka.csv")
-    refs = accuracy.references_from(frame, site_col="site_smarts", category_col="category")
+    refs = []
+    for name in REFERENCE_FILES:
+        frame = accuracy.pl.read_csv(DATA / name)
+        refs += accuracy.references_from(frame, site_col="site_smarts", category_col="category")
     table = accuracy.summarize(accuracy.score_rows(refs))
     print("\n" + accuracy.format_table(table))
     return {s.category: s for s in table}

@@ -19,7 +19,8 @@ def _check(smiles: str) -> None:
     result = annotate_smiles(smiles, settings=PH)
     assert result.status == "ok", result.messages
     for state in result.ph_states:
-        assert abs(sum(s.fraction for s in state.species) - 1.0) < 1e-6
+        # each fraction is rounded to 6 decimals, so the sum may be off by half a unit per species
+        assert abs(sum(s.fraction for s in state.species) - 1.0) <= 5e-7 * len(state.species) + 1e-9
         for species in state.species:
             mol = Chem.MolFromSmiles(species.smiles)
             assert mol is not None, species.smiles

@@ -38,6 +38,11 @@ def _positions(size: int) -> dict[int, tuple[int, str]]:
 _POSITIONS = {size: _positions(size) for size in _NAMES}
 
 
+def positions_in_ring(size: int) -> dict[int, tuple[int, str]]:
+    """(distance in bonds, position name) by index difference along a 5- or 6-membered ring."""
+    return _POSITIONS[size]
+
+
 def site_ring(graph: MolGraph, anchor: int) -> tuple[int, ...] | None:
     """The aromatic ring carrying the anchor: the first six-membered one in ring
     order, else the first five-membered one. Candidates are tried in that order,
@@ -79,14 +84,14 @@ def hammett_contributions(
         distance, position = positions[offset - start]
         element, _, degree = atoms[p]
         if element == 7 and p not in group and _is_pyridine_like(graph, p):
-            out.append(_term(rule, table.ring_aza, "ring N", position, distance))
+            out.append(position_term(rule, table.ring_aza, "ring N", position, distance))
         if degree == 2:
             continue  # both bonds in the ring: nothing hangs here
         for s in graph.bonded[p][0]:
             if s in ring_set or s in group:
                 continue
             if _fused(graph, p, s, ring_set):
-                out.append(_term(rule, table.ring_fusion, "fused ring", position, distance))
+                out.append(position_term(rule, table.ring_fusion, "fused ring", position, distance))
                 continue
             hit = index.lookup(s, p, group)
             if hit is None:
@@ -94,8 +99,8 @@ def hammett_contributions(
                 out.append(Contribution(label, 0.0, UNKNOWN_SD))
                 continue
             if hit.sigma_star is None and hit.root_element == 6:
-                hit = _substituted_alkyl(s, p, group, index, hit)
-            out.append(_term(rule, hit, hit.name, position, distance))
+                hit = substituted_alkyl(s, p, group, index, hit)
+            out.append(position_term(rule, hit, hit.name, position, distance))
     return out
 
 
@@ -106,7 +111,7 @@ def hammett_contributions(
 SIGMA_PER_SIGMA_STAR = 0.17
 
 
-def _substituted_alkyl(
+def substituted_alkyl(
     root: int, ring_atom: int, group: frozenset[int], index: SubstituentIndex, alkyl: Substituent
 ) -> Substituent:
     star = group_sigma_star(root, ring_atom, group, index)
@@ -141,7 +146,7 @@ def _fused(graph: MolGraph, p: int, s: int, ring: set[int]) -> bool:
     return graph.atoms[s][1] and graph.mol.GetBondBetweenAtoms(p, s).IsInRing()
 
 
-def _term(rule: GroupRule, sub: Substituent, name: str, position: str, distance: int) -> Contribution:
+def position_term(rule: GroupRule, sub: Substituent, name: str, position: str, distance: int) -> Contribution:
     """One ring position's term. The row's ortho shift and para scale describe how
     substituents act in that series; ring members (aza, fusion) carry constants
     derived for the position directly, so neither applies to them."""

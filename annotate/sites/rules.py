@@ -10,7 +10,7 @@ from rdkit import Chem
 
 from annotate.tables import Row, load_table, packaged
 
-Model = Literal["hammett", "taft", "fixed"]
+Model = Literal["hammett", "taft", "fixed", "ring"]
 GROUP_COLUMNS = ("name", "category", "kind", "smarts", "pka", "parent", "model", "sd", "source")
 
 
@@ -63,8 +63,8 @@ def parse_group_row(row: Row) -> GroupRule:
     if kind not in ("acid", "base"):
         raise row.fail(f"kind must be 'acid' or 'base', not {kind!r}")
     model = row.fields.get("model", "").strip() or "fixed"
-    if model not in ("hammett", "taft", "fixed"):
-        raise row.fail(f"model must be hammett, taft or fixed, not {model!r}")
+    if model not in ("hammett", "taft", "fixed", "ring"):
+        raise row.fail(f"model must be hammett, taft, fixed or ring, not {model!r}")
     sigma = row.fields.get("sigma", "").strip() or "p"
     if sigma not in ("p", "p-"):
         raise row.fail(f"sigma must be 'p' or 'p-', not {sigma!r}")
