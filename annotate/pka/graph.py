@@ -71,7 +71,7 @@ class MolGraph:
     (neighbour indices, neighbour elements).
     """
 
-    __slots__ = ("mol", "rdkit", "element", "atoms", "bonded", "_rings", "_has")
+    __slots__ = ("mol", "rdkit", "element", "atoms", "bonded", "_rings", "_aromatic_rings", "_fused", "_has")
 
     def __init__(self, mol: Chem.Mol) -> None:
         self.mol = mol
@@ -85,6 +85,8 @@ class MolGraph:
         self.bonded.rdkit = self.rdkit
         self.bonded.elements = self.element
         self._rings: tuple[tuple[int, ...], ...] | None = None
+        self._aromatic_rings: tuple[tuple[int, ...], ...] | None = None
+        self._fused: dict[int, tuple[tuple[int, ...], ...]] | None = None
         self._has: dict[int, bool] = {}
 
     @property
@@ -94,6 +96,43 @@ class MolGraph:
             self._rings = self.mol.GetRingInfo().AtomRings()
         return self._rings
 
+    @property
+    def aromatic_rings(self) -> tuple[tuple[int, ...], ...]:
+        """The rings whose atoms are all aromatic, in ring order; read once per molecule."""
+        if self._aromatic_rings is None:
+            # one search lists the aromatic atoms: cheaper than reading each ring atom
+            aromatic = {m[0] for m in self.mol.GetSubstructMatches(_AROMATIC, uniquify=False, maxMatches=100000)}
+            self._aromatic_rings = tuple(r for r in self.rings if aromatic.issuperset(r))
+        return self._aromatic_rings
+
+    def fused_aromatic_rings(self, atom: int) -> tuple[tuple[int, ...], ...]:
+        """The aromatic rings fused (sharing a bond, directly or through each other)
+        with an aromatic ring holding ``atom``; empty if none holds it. All systems
+        of the molecule are found on the first call."""
+        if self._fused is None:
+            rings = self.aromatic_rings
+            members = [set(r) for r in rings]
+            group = list(range(len(rings)))  # union-find over rings sharing two atoms
+
+            def root(k: int) -> int:
+                while group[k] != k:
+                    k = group[k]
+                return k
+
+            for a in range(len(rings)):
+                for b in range(a + 1, len(rings)):
+                    if len(members[a] & members[b]) >= 2:
+                        group[root(b)] = root(a)
+            systems: dict[int, list[tuple[int, ...]]] = {}
+            for k, ring in enumerate(rings):
+                systems.setdefault(root(k), []).append(ring)
+            self._fused = {}
+            for system in systems.values():
+                for ring in system:
+                    for i in ring:
+                        self._fused.setdefault(i, tuple(system))
+        return self._fused.get(atom, ())
+
     def has_element(self, z: int) -> bool:
         """Whether an atom of atomic number ``z`` occurs: known if an atom read so
         far has it, else one search, once per element."""
@@ -102,6 +141,10 @@ class MolGraph:
             found = z in self.element.values() or self.mol.HasSubstructMatch(_element_query(z))
             self._has[z] = found
         return found
+
+
+#: any aromatic atom
+_AROMATIC = Chem.MolFromSmarts("a")
 
 
 @lru_cache(maxsize=None)

@@ -175,7 +175,7 @@ def _row_key(row: Row, smiles: str) -> str:
         a.SetAtomMapNum(0)
     graph = MolGraph(mol)
     rings = system_rings(graph, site)
-    if len(rings) != len([r for r in graph.rings if all(graph.atoms[i][1] for i in r)]):
+    if len(rings) != len(graph.aromatic_rings):
         raise row.fail("the SMILES must be one fused aromatic ring system")
     key = skeleton_key(graph, _with_exocyclic(graph, frozenset().union(*rings)), site)
     if key is None:
@@ -185,21 +185,9 @@ def _row_key(row: Row, smiles: str) -> str:
 
 def system_rings(graph: MolGraph, site: int) -> list[tuple[int, ...]]:
     """The aromatic rings fused (sharing a bond) with the ring holding ``site``, site's ring first."""
-    atoms = graph.atoms
-    aromatic = [r for r in graph.rings if all(atoms[i][1] for i in r)]
-    start = [r for r in aromatic if site in r]
-    if not start:
-        return []
-    found = [start[0]]
-    queue = deque(found)
-    while queue:
-        ring = queue.popleft()
-        members = set(ring)
-        for other in aromatic:
-            if other not in found and len(members.intersection(other)) >= 2:
-                found.append(other)
-                queue.append(other)
-    return found
+    system = graph.fused_aromatic_rings(site)
+    first = [r for r in system if site in r][:1]
+    return first + [r for r in system if r not in first]
 
 
 def _with_exocyclic(graph: MolGraph, ring_atoms: frozenset[int]) -> frozenset[int]:
@@ -217,8 +205,37 @@ def _with_exocyclic(graph: MolGraph, ring_atoms: frozenset[int]) -> frozenset[in
     return ring_atoms | extra
 
 
-def skeleton_key(graph: MolGraph, atoms: frozenset[int], site: int) -> str | None:
-    """Canonical SMILES of the skeleton made of ``atoms``, site mapped :1; None if unwritable."""
+def skeleton_key(
+    graph: MolGraph, atoms: frozenset[int], site: int, ring: tuple[int, ...] | None = None
+) -> str | None:
+    """Canonical SMILES of the skeleton made of ``atoms``, site mapped :1; None if unwritable.
+
+    ``ring``: the skeleton is this one ring (with its exocyclic atoms). Its symbols read
+    round the ring from the site, in the smaller of the two directions, describe it
+    exactly, so that reading is looked up first (most ring N sit on a lone ring)."""
+    if ring is not None:
+        start = ring.index(site)
+        walk = ring[start:] + ring[:start]
+        symbols = tuple(_symbol(graph, i, i == site, atoms) + _exocyclic(graph, i, atoms) for i in walk)
+        reading = min(symbols, symbols[:1] + symbols[:0:-1])
+        key = _LONE_RINGS.get(reading)
+        if key is None:
+            key = _LONE_RINGS[reading] = _fragment_key(graph, atoms, site)
+        return key
+    return _fragment_key(graph, atoms, site)
+
+
+#: skeleton key of a lone ring by its reading round the ring (see skeleton_key)
+_LONE_RINGS: dict[tuple[str, ...], str | None] = {}
+
+
+def _exocyclic(graph: MolGraph, i: int, atoms: frozenset[int]) -> str:
+    if graph.atoms[i][2] == 2:
+        return ""
+    return "".join(f"(={graph.rdkit[j].GetSymbol()})" for j in graph.bonded[i][0] if j in atoms and graph.atoms[j][1] is False)
+
+
+def _fragment_key(graph: MolGraph, atoms: frozenset[int], site: int) -> str | None:
     mol = graph.mol
     symbols = ["*"] * mol.GetNumAtoms()
     for i in atoms:
@@ -266,7 +283,7 @@ def find_parent(graph: MolGraph, site: int, table: RingSystemTable) -> ParentMat
     for subset in _subsystems(rings):
         ring_atoms = frozenset().union(*(rings[k] for k in subset))
         atoms = _with_exocyclic(graph, ring_atoms)
-        key = skeleton_key(graph, atoms, site)
+        key = skeleton_key(graph, atoms, site, rings[0] if len(subset) == 1 else None)
         parent = table.parents.get(key) if key is not None else None
         if parent is not None:
             return ParentMatch(parent, atoms, ring_atoms, system, rings[0])
@@ -315,9 +332,11 @@ def ring_parent_contributions(
     size = len(ring)
     positions = positions_in_ring(size)
     start = ring.index(site)
-    distances = _distances(graph, site, match.ring_atoms)
     order = [p for p in ring if p != site]
-    order += sorted((p for p in match.ring_atoms if p not in ring), key=lambda p: (distances[p], p))
+    distances: dict[int, int] = {}
+    if len(match.ring_atoms) > size:
+        distances = _distances(graph, site, match.ring_atoms)
+        order += sorted((p for p in match.ring_atoms if p not in ring), key=lambda p: (distances[p], p))
     out: list[Contribution] = []
     donors: list[float] = []
     more_aza = sum(1 for p in ring if p != site and _is_pyridine_like(graph, p))
