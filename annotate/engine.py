@@ -233,10 +233,8 @@ def _speciate(record: _Record, *, settings: Settings) -> None:
 
 def _estimated(mol: Chem.Mol, matches: list[SiteMatch], rules: RuleSet) -> tuple[Site, ...]:
     index = SubstituentIndex(mol, rules.substituents)
-    return tuple(
-        estimate_site(mol, m, rules=rules, index=index)
-        for m in matches
-    )
+    sites = (estimate_site(mol, m, rules=rules, index=index) for m in matches)
+    return tuple(s for s in sites if s is not None)
 
 
 def _model(mol: Chem.Mol, sites: tuple[Site, ...], settings: Settings, rules: RuleSet) -> MicrostateModel:

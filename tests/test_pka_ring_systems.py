@@ -150,3 +150,12 @@ def test_aniline_and_diarylamine_stay_bases() -> None:
     for smiles in ("Nc1ccccc1", "c1ccc(Nc2ccccc2)cc1", "Nc1cccnc1"):
         groups = {s.group for s in annotate_smiles(smiles, settings=PH).sites if s.category == "aniline"}
         assert groups, smiles
+
+
+def test_ring_n_marked_not_a_site_gives_no_site() -> None:
+    # ring_systems.tsv marks tetrazole and oxadiazole N "none": not protonated above pH -2
+    # (common practice); the tetrazole keeps its NH acid site
+    for smiles in ("Cc1nn[nH]n1", "Cc1nc(C)on1", "Cc1nnc(C)o1"):
+        sites = annotate_smiles(smiles, settings=PH).sites
+        assert not [s for s in sites if s.category == "azole_base"], smiles
+    assert any(s.kind == "acid" for s in annotate_smiles("Cc1nn[nH]n1", settings=PH).sites)

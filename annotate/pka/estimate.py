@@ -47,13 +47,16 @@ def substituent_contributions(
     return hammett_contributions(mol, anchor, group, rule, index, table)
 
 
-def estimate_site(mol: Chem.Mol, site: SiteMatch, *, rules: RuleSet, index: SubstituentIndex) -> Site:
-    """A Site whose pKa is exactly the sum of its listed terms."""
+def estimate_site(mol: Chem.Mol, site: SiteMatch, *, rules: RuleSet, index: SubstituentIndex) -> Site | None:
+    """A Site whose pKa is exactly the sum of its listed terms; None for a ring N
+    whose ring system's row says it takes no proton in water."""
     rule = site.rule
     name, parent, pka, sd = rule.name, rule.parent, rule.pka, rule.sd
     parent_terms = rules.parent_terms[rule.name]
     if rule.model == "ring":
         match = find_parent(index.graph, site.atom, rules.ring_systems)
+        if match is not None and match.parent.pka is None:
+            return None
         if match is not None:
             raw = ring_parent_contributions(
                 match, site.atom, frozenset(site.match), rule, index, rules.substituents, rules.ring_systems

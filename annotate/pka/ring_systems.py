@@ -44,6 +44,8 @@ from annotate.sites.rules import GroupRule
 from annotate.tables import Row, load_table, packaged
 
 RING_SYSTEM_COLUMNS = ("name", "smiles", "pka", "sd", "source")
+#: the pka of a ring N that takes no proton in water
+NOT_A_SITE = "none"
 INCREMENT_COLUMNS = ("substituent", "ring", "position", "delta", "source")
 
 #: transmission of a substituent effect from a ring fused to the N's ring.
@@ -75,11 +77,12 @@ _EXOCYCLIC = {8: "O", 16: "S", 7: "N"}
 
 @dataclass(frozen=True, slots=True)
 class RingParent:
-    """One ring N of one ring system, with its measured (or estimated) pKa."""
+    """One ring N of one ring system, with its measured (or estimated) pKa; ``pka``
+    None: the N is not a base site (see the table's header)."""
 
     name: str
     smiles: str
-    pka: float
+    pka: float | None
     sd: float
     source: str
 
@@ -130,7 +133,7 @@ def _parse_parent(row: Row) -> tuple[Row, RingParent]:
     parent = RingParent(
         name=row.text_field("name"),
         smiles=row.text_field("smiles"),
-        pka=row.float_field("pka"),
+        pka=None if row.text_field("pka") == NOT_A_SITE else row.float_field("pka"),
         sd=row.float_field("sd"),
         source=row.text_field("source"),
     )
