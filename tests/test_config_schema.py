@@ -15,7 +15,7 @@ from snakemake.exceptions import WorkflowError
 from snakemake.utils import validate
 
 from annotate.io.library import LibrarySpec
-from annotate.pipeline import expand_library_shorthand, library_specs, settings_from_config
+from annotate.pipeline import libraries_to_run, library_specs, settings_from_config
 from annotate.pipeline.config import suggested_chunk_size
 from annotate.settings import SETTING_NAMES, Settings
 
@@ -28,8 +28,8 @@ DEFAULT_CONFIG = yaml.safe_load((ROOT / "config" / "config.yaml").read_text())
 def validated(config: dict) -> dict:
     """What workflow/rules/common.smk does before any rule sees the config."""
     config = copy.deepcopy(config)
-    if "libraries" in config:
-        config["libraries"] = expand_library_shorthand(config["libraries"])
+    if "libraries" in config or "demo_libraries" in config:
+        config["libraries"] = libraries_to_run(config)
     validate(config, str(SCHEMA_PATH))
     return config
 

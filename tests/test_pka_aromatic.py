@@ -4,17 +4,17 @@ from __future__ import annotations
 
 from rdkit import Chem
 
-from annotate.pka.aromatic import _POSITIONS, site_ring
+from annotate.pka.aromatic import positions_in_ring, site_ring
 from annotate.pka.graph import MolGraph
 
 
 def test_positions_are_the_shorter_way_round_the_ring() -> None:
-    assert _POSITIONS[6][1] == _POSITIONS[6][-5] == _POSITIONS[6][5] == (1, "ortho")
-    assert _POSITIONS[6][-2] == _POSITIONS[6][4] == (2, "meta")
-    assert _POSITIONS[6][3] == _POSITIONS[6][-3] == (3, "para")
-    assert _POSITIONS[5][-4] == _POSITIONS[5][1] == (1, "adjacent")
-    assert _POSITIONS[5][3] == _POSITIONS[5][-2] == (2, "next-but-one")
-    assert sorted(_POSITIONS[6]) == [-5, -4, -3, -2, -1, 1, 2, 3, 4, 5]
+    assert positions_in_ring(6)[1] == positions_in_ring(6)[-5] == positions_in_ring(6)[5] == (1, "ortho")
+    assert positions_in_ring(6)[-2] == positions_in_ring(6)[4] == (2, "meta")
+    assert positions_in_ring(6)[3] == positions_in_ring(6)[-3] == (3, "para")
+    assert positions_in_ring(5)[-4] == positions_in_ring(5)[1] == (1, "adjacent")
+    assert positions_in_ring(5)[3] == positions_in_ring(5)[-2] == (2, "next-but-one")
+    assert sorted(positions_in_ring(6)) == [-5, -4, -3, -2, -1, 1, 2, 3, 4, 5]
 
 
 def test_site_ring_prefers_the_six_membered_aromatic_ring() -> None:

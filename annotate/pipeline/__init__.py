@@ -17,7 +17,12 @@ from annotate.lazy import lazy_exports
 
 if TYPE_CHECKING:
     from annotate.pipeline.annotation import annotate_chunk
-    from annotate.pipeline.config import expand_library_shorthand, library_specs, settings_from_config
+    from annotate.pipeline.config import (
+        expand_library_shorthand,
+        libraries_to_run,
+        library_specs,
+        settings_from_config,
+    )
     from annotate.pipeline.gather import RecordCountError, gather_annotations
     from annotate.pipeline.joblog import log_progress
     from annotate.pipeline.manifest import Manifest, read_manifest
@@ -27,7 +32,7 @@ __all__, __getattr__, __dir__ = lazy_exports(
     __name__,
     {
         "annotation": ["annotate_chunk"],
-        "config": ["expand_library_shorthand", "library_specs", "settings_from_config"],
+        "config": ["expand_library_shorthand", "libraries_to_run", "library_specs", "settings_from_config"],
         "gather": ["RecordCountError", "gather_annotations"],
         "joblog": ["log_progress"],
         "manifest": ["Manifest", "read_manifest"],

@@ -53,6 +53,17 @@ def expand_library_shorthand(libraries: object) -> object:
     return {name: {"path": entry} if isinstance(entry, str) else entry for name, entry in libraries.items()}
 
 
+def libraries_to_run(config: Mapping[str, object]) -> object:
+    """The libraries a run annotates: ``libraries``, or the bundled ``demo_libraries``
+    when none are configured, with each ``name: path`` written as a mapping.
+
+    Why two keys: Snakemake merges --configfile and --config into config/config.yaml
+    key by key, so demo libraries listed under ``libraries`` would join a user's own
+    instead of giving way to them.
+    """
+    return expand_library_shorthand(config.get("libraries") or config.get("demo_libraries") or {})
+
+
 def library_specs(libraries: Mapping[str, str | Mapping[str, object]]) -> dict[str, LibrarySpec]:
     """The configured libraries, by name, in config order."""
     return {name: LibrarySpec.from_config(name, entry) for name, entry in libraries.items()}

@@ -27,7 +27,7 @@ import math
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from functools import lru_cache
-from typing import TypeVar
+from typing import Literal, TypeVar
 
 import numpy as np
 
@@ -78,12 +78,12 @@ class StateList:
         log_w = [_at_ph(b, k, ph) for b, k in zip(self.log_base, self.n_protons, strict=True)]
         top = max(log_w)
         weights = [_relative(x, top, math.exp) for x in log_w]
-        total = _numpy_sum(weights)
+        total = numpy_order_sum(weights)
         return [w / total for w in weights]
 
     def populations(self, ph: float, limit: int) -> Populations:
         fractions = self.fractions(ph)
-        mean = _numpy_sum([f * c for f, c in zip(fractions, self.charges, strict=True)])
+        mean = numpy_order_sum([f * c for f, c in zip(fractions, self.charges, strict=True)])
         order = sorted(range(len(fractions)), key=lambda k: -fractions[k])[:limit]
         return Populations(mean, [(k, fractions[k]) for k in order])
 
@@ -196,8 +196,14 @@ def build_model(
     base_charge: int,
     ph_values: tuple[float, ...],
     table: InteractionTable,
+    evaluation: Literal["auto", "python", "numpy"] = "auto",
 ) -> MicrostateModel:
-    """Enumerate microstates; ``distances``/``second_paths`` are site-to-site bond counts."""
+    """Enumerate microstates; ``distances``/``second_paths`` are site-to-site bond counts.
+
+    ``evaluation``: "auto" evaluates up to ``SMALL_SITES`` sites with Python numbers and
+    more with numpy arrays (numpy's cost per call dominates small molecules); "python"
+    or "numpy" forces one path. Both give the same weights to the bit, which the tests
+    check through this switch."""
     pka = [float(p) for p in pkas]
     is_acid = tuple(int(k == "acid") for k in kinds)
     active, fixed, truncated = _split_active(pka, ph_values)
@@ -206,7 +212,8 @@ def build_model(
         return _without_sites(base_charge)
     background = tuple(p > mid for p in pka)  # the form a fixed site takes inside the window
     w_like, w_opp = _interaction_matrices(distances, second_paths, table)
-    evaluate = _state_list if len(pka) <= SMALL_SITES else _state_arrays
+    python = len(pka) <= SMALL_SITES if evaluation == "auto" else evaluation == "python"
+    evaluate = _state_list if python else _state_arrays
     states, log_base = evaluate(pka, is_acid, tuple(active), background, w_like, w_opp, base_charge)
     macro = _macro_pka(log_base, len(active)) + tuple(pka[i] for i in fixed)
     return MicrostateModel(
@@ -264,7 +271,7 @@ def _macro_pka(log_base: Sequence[float], m: int) -> tuple[float, ...]:
     """pKa_k = log10 Z_k - log10 Z_(k-1), Z_k summed over the states holding k protons.
 
     Python numbers for either evaluation: a numpy call per proton count cost more than
-    the sums for all but the largest molecules, and ``_numpy_sum`` keeps numpy's bits.
+    the sums for all but the largest molecules, and ``numpy_order_sum`` keeps numpy's bits.
     """
     log_z = []
     for group in _proton_groups(m):
@@ -273,7 +280,7 @@ def _macro_pka(log_base: Sequence[float], m: int) -> tuple[float, ...]:
             continue
         values = [log_base[s] for s in group]
         top = max(values)
-        log_z.append(top + math.log10(_numpy_sum([10.0 ** (x - top) for x in values])))
+        log_z.append(top + math.log10(numpy_order_sum([10.0 ** (x - top) for x in values])))
     return tuple(log_z[k] - log_z[k - 1] for k in range(1, m + 1))
 
 
@@ -361,7 +368,7 @@ def _pair_sum_one(left: list[int], w: Matrix, right: list[int]) -> float:
     return total
 
 
-def _numpy_sum(values: Sequence[float]) -> float:
+def numpy_order_sum(values: Sequence[float]) -> float:
     """Sum in numpy's order (pairwise, in blocks of eight), so both paths agree to the bit."""
     n = len(values)
     if n < 8:

@@ -6,7 +6,7 @@ from pathlib import Path
 from snakemake.utils import validate
 
 import annotate
-from annotate.pipeline import expand_library_shorthand, library_specs, read_manifest
+from annotate.pipeline import libraries_to_run, library_specs, read_manifest
 from annotate.pipeline.docking import DockingOptions, ph_label
 from annotate.pipeline.filtering import filter_specs, ph_values_with_filters
 from annotate.pipeline.preflight import check_run
@@ -16,14 +16,9 @@ from annotate.qc.report import OUTPUTS as QC_OUTPUTS
 from annotate.settings import SETTING_NAMES
 from annotate.tables import rule_table_checksums
 
-# Snakemake merges --configfile and --config into config/config.yaml key by key,
-# which would add the demo libraries to the user's own. Libraries given on the
-# command line therefore replace the configured ones instead of joining them.
-_command_line = workflow.config_settings.overwrite_config
-if "libraries" in _command_line:
-    config["libraries"] = _command_line["libraries"]
-if "libraries" in config:
-    config["libraries"] = expand_library_shorthand(config["libraries"])
+# The configured libraries, or the bundled demo ones when none are given.
+if "libraries" in config or "demo_libraries" in config:
+    config["libraries"] = libraries_to_run(config)
 validate(config, "../schemas/config.schema.yaml")
 FILTERS = filter_specs(config["filters"])
 # A filter reads the state at its pH, so that pH is computed too (documented in the schema).
