@@ -55,3 +55,18 @@ def test_net_of_parent_subtracts_parent_terms_label_by_label() -> None:
 def test_net_of_parent_drops_terms_the_parent_already_carries() -> None:
     h = Contribution("H on anchor", -0.5, 0.05)
     assert net_of_parent([h, h], [h, h]) == []
+
+
+def test_second_ring_adds_its_own_terms() -> None:
+    """A sulfonamide N feels the ring on the S as well as the ring on the N: the rule's
+    second anchor (:3) adds that ring's Hammett terms with rho2, labelled as such."""
+    plain = _sites("O=S(=O)(Nc1ncccn1)c1ccccc1")
+    nitro = _sites("O=S(=O)(Nc1ncccn1)c1ccc([N+](=O)[O-])cc1")
+    acid = [s for s in nitro if s.kind == "acid"][0]
+    rule = next(r for r in RULES.groups if r.name == acid.group)
+    assert rule.rho2 > 0
+    second = [t for t in acid.terms if t.label.startswith(f"second ring (rho {rule.rho2:.2f}): nitro para")]
+    assert len(second) == 1 and second[0].value < 0
+    base = [s for s in plain if s.kind == "acid"][0]
+    assert abs((base.pka - acid.pka) + second[0].value) < 2e-3
+    assert abs(sum(t.value for t in acid.terms) - acid.pka) < 2e-3

@@ -67,6 +67,7 @@ def test_user_row_with_new_name_is_tried_first(tmp_path: Path) -> None:
         ("bad\tx\tsalt\t[OX2H1:1]C=O\t4\tCC(=O)O\tfixed\t\t\t\t\t\t0.3\tme\n", "kind must be"),
         ("bad\tx\tacid\t[OX2H1:1]C=O\tfour\tCC(=O)O\tfixed\t\t\t\t\t\t0.3\tme\n", "not a number"),
         ("bad\tx\tacid\t[OX2H1:1]C=O\t4\tCC(=O)O\tfixed\t\t\t\t\t\t0.3\t\n", "'source' is empty"),
+        ("bad\tx\tacid\t[OX2H1:1][C:2](=O)[c:3]\t4\tOC(=O)c1ccccc1\ttaft\t1.6\t\t\t\t\t0.3\tme\n", "mapped :3"),
     ],
 )
 def test_bad_user_row_names_file_and_line(tmp_path: Path, row: str, problem: str) -> None:

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 from functools import lru_cache
 from typing import TYPE_CHECKING
 
@@ -34,17 +35,32 @@ def substituent_contributions(
     table: SubstituentTable,
     index: SubstituentIndex | None = None,
 ) -> list[Contribution]:
-    """Raw contributions of everything outside the group, by the rule's model
-    (for a ``ring`` rule: the general row's Hammett terms, used when the site's
-    ring system is not in the table)."""
+    """Raw contributions of everything outside the group, by the rule's model, then
+    those of the rule's second aromatic ring (anchor mapped :3), if it has one. For a
+    ``ring`` rule: the general row's Hammett terms, used when the site's ring system
+    is not in the table."""
     if rule.model == "fixed":
         return []
     index = index or SubstituentIndex(mol, table)
     group = frozenset(match)
     anchor = match[rule.anchor_index]
     if rule.model == "taft":
-        return taft_contributions(mol, anchor, group, rule.rho, index)
-    return hammett_contributions(mol, anchor, group, rule, index, table)
+        out = taft_contributions(mol, anchor, group, rule.rho, index)
+    else:
+        out = hammett_contributions(mol, anchor, group, rule, index, table)
+    if rule.anchor2_index is None:
+        return out
+    ring = hammett_contributions(mol, match[rule.anchor2_index], group, _second_ring_rule(rule), index, table)
+    prefix = f"second ring (rho {rule.rho2:.2f}): "
+    return out + [Contribution(prefix + c.label, c.value, c.sd) for c in ring]
+
+
+@lru_cache(maxsize=64)
+def _second_ring_rule(rule: GroupRule) -> GroupRule:
+    """The rule as seen from its second ring: the same sigma choice and ortho
+    treatment, with rho2. A sulfonamide N, for instance, feels both the ring on
+    the N and the ring on the S, each with its own transmission."""
+    return replace(rule, rho=rule.rho2, anchor2_index=None)
 
 
 def estimate_site(mol: Chem.Mol, site: SiteMatch, *, rules: RuleSet, index: SubstituentIndex) -> Site | None:

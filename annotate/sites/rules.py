@@ -34,9 +34,13 @@ class GroupRule:
     merge_overlaps: bool
     sd: float
     source: str
+    #: rho of the second aromatic ring (anchor mapped :3), 0.0 when the row has none
+    rho2: float
     pattern: Chem.Mol = field(repr=False, compare=False)
     site_index: int = field(repr=False, compare=False)
     anchor_index: int = field(repr=False, compare=False)
+    #: index of the second ring's anchor (mapped :3) in the pattern, or None
+    anchor2_index: int | None = field(default=None, repr=False, compare=False)
 
     def __repr__(self) -> str:
         return f"GroupRule({self.name!r}, {self.kind}, {self.smarts!r}, pKa {self.pka})"
@@ -77,6 +81,12 @@ def parse_group_row(row: Row) -> GroupRule:
     parent = row.text_field("parent")
     if Chem.MolFromSmiles(parent) is None:
         raise row.fail(f"parent SMILES {parent!r} does not parse")
+    anchor2 = _map_index(pattern, 3)
+    rho2 = row.float_field("rho2", default=0.0)
+    if (anchor2 is None) != (rho2 == 0.0):
+        raise row.fail("an atom mapped :3 (second ring anchor) and a non-zero rho2 go together")
+    if anchor2 is not None and model == "fixed":
+        raise row.fail("a second ring (:3, rho2) needs model hammett or taft")
     sd = row.float_field("sd")
     if sd <= 0:
         raise row.fail("sd must be positive")
@@ -97,9 +107,11 @@ def parse_group_row(row: Row) -> GroupRule:
         merge_overlaps=overlap == "merge",
         sd=sd,
         source=row.text_field("source"),
+        rho2=rho2,
         pattern=pattern,
         site_index=site,
         anchor_index=site if anchor is None else anchor,
+        anchor2_index=anchor2,
     )
 
 
