@@ -159,3 +159,15 @@ def test_ring_n_marked_not_a_site_gives_no_site() -> None:
         sites = annotate_smiles(smiles, settings=PH).sites
         assert not [s for s in sites if s.category == "azole_base"], smiles
     assert any(s.kind == "acid" for s in annotate_smiles("Cc1nn[nH]n1", settings=PH).sites)
+
+
+def test_untabulated_fused_system_counts_its_other_ring_n() -> None:
+    # imidazo[1,2-b]pyridazine is not in the table: the imidazole ring is the parent,
+    # and the pyridazine N of the other ring withdraws across the fusion
+    (site,) = [s for s in _ring_sites("c1cc2ncc[n]2nc1") if s.category == "azole_base"]
+    labels = [t.label for t in site.terms]
+    assert "imidazole" in labels[0]
+    assert any(label.startswith("ring N across fusion") for label in labels)
+    assert any(label.startswith("fused system not in ring_systems.tsv") for label in labels)
+    plain = _most_basic("c1ccn2ccnc2c1")  # imidazo[1,2-a]pyridine, tabulated: 6.79
+    assert site.pka < plain.pka

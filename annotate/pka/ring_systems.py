@@ -394,6 +394,28 @@ def ring_parent_contributions(
         value = -(1.0 - DONOR_SATURATION) * ranked[1] - sum(ranked[2:])
         label = f"conjugated donors: the second counts x{DONOR_SATURATION}, further ones not ({len(ranked)} donors)"
         out.append(Contribution(label, value, 0.3))
+    if match.system_atoms != match.ring_atoms:
+        out += _outside_parent(match, site, rule, graph, substituents)
+    return out
+
+
+def _outside_parent(
+    match: ParentMatch, site: int, rule: GroupRule, graph: MolGraph, substituents: SubstituentTable
+) -> list[Contribution]:
+    """The fused system is larger than its tabulated part: say so, and count each
+    ring N of the untabulated rings as an aza substituent across the fusion (sigma_p
+    at an odd, sigma_m at an even number of bonds, times ``CROSS_FUSION``), as the
+    fused-ring terms alone would treat it as carbon."""
+    out = [Contribution("fused system not in ring_systems.tsv: parent is its largest tabulated part", 0.0, 0.5)]
+    distances = _distances(graph, site, match.system_atoms)
+    aza = substituents.ring_aza
+    for atom in sorted(match.system_atoms - match.ring_atoms, key=lambda a: (distances.get(a, 99), a)):
+        if not _is_pyridine_like(graph, atom) or atom not in distances:
+            continue
+        d = distances[atom]
+        sigma = aza.sigma_p if d % 2 else aza.sigma_m
+        value = -rule.rho * sigma * CROSS_FUSION
+        out.append(Contribution(f"ring N across fusion, {d} bonds (sigma {sigma:.2f} x{CROSS_FUSION})", value, TERM_RELATIVE_SD * abs(value) + 0.1))
     return out
 
 
